@@ -1,0 +1,403 @@
+"""The parts catalogue: load a CSV into one DataFrame, and check it.
+
+`load_catalog` returns a `Catalog`: a DataFrame indexed by the file line of
+each row (index name `line`), columns named as in the interface (values in the
+unit the name carries: `rds_on_mohm@2.5V` in mΩ, `idss_uA` in µA), unknown
+columns kept as text, blank cells NaN; plus every problem found, each with its
+file, line and column. Rows with errors are left out of the DataFrame and
+counted; warnings leave the row in.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import re
+from dataclasses import dataclass, field
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from picker import columns as cols
+from picker.errors import CatalogError, QuantityError
+from picker.quantities import parse_quantity
+from picker.tabular import read_bytes, read_table
+
+UNKNOWN_MARKERS = {"", "-", "–", "—", "?", "n/a", "na", "none", "unknown", "tbd"}
+YES = {"yes", "y", "true", "1", "x"}
+NO = {"no", "n", "false", "0", ""}
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One finding of the catalogue check, located in the file."""
+
+    severity: str  # 'error' or 'warning'
+    file: str
+    line: int | None
+    column: int | None
+    message: str
+    column_name: str | None = None
+
+    def __str__(self) -> str:
+        where = ":".join(str(p) for p in (self.file, self.line, self.column) if p is not None)
+        return f"{where}: {self.severity}: {self.message}"
+
+
+@dataclass
+class Catalog:
+    """A loaded catalogue: good rows, every problem, and where it came from."""
+
+    df: pd.DataFrame
+    problems: list[Problem]
+    path: str
+    source: str  # how the path was chosen: 'option', 'PICKER_CATALOG', 'bundled demo'
+    rows_read: int
+    fingerprint: str = ""  # sha256 of the file's bytes
+    encoding: str = "utf-8"
+    delimiter: str = ","
+    error_lines: list[int] = field(default_factory=list)
+
+    @property
+    def errors(self) -> list[Problem]:
+        return [p for p in self.problems if p.severity == "error"]
+
+    @property
+    def warnings(self) -> list[Problem]:
+        return [p for p in self.problems if p.severity == "warning"]
+
+    def describe(self) -> str:
+        """One line saying which catalogue is in use."""
+        return f"catalogue: {self.path} ({self.source}, {len(self.df)} parts)"
+
+    def left_out_notice(self) -> str | None:
+        """The visible line other commands print when rows were left out."""
+        n = len(self.error_lines)
+        if not n:
+            return None
+        return (f"{n} catalogue row{'s' if n != 1 else ''} left out for errors; "
+                f"run `picker catalog check {self.path}` to see them")
+
+
+# -- where the catalogue comes from ------------------------------------------
+
+def bundled_catalog() -> Path:
+    """The demo catalogue shipped inside the package."""
+    return Path(str(resources.files("picker.data").joinpath("demo.csv")))
+
+
+def resolve_catalog(option: str | os.PathLike | None) -> tuple[str, str]:
+    """(path, source): the --catalog option, else $PICKER_CATALOG, else the demo."""
+    if option:
+        return str(option), "--catalog"
+    env = os.environ.get("PICKER_CATALOG", "").strip()
+    if env:
+        return env, "PICKER_CATALOG"
+    return str(bundled_catalog()), "bundled demo"
+
+
+# -- loading ------------------------------------------------------------------
+
+def load_catalog(path: str | os.PathLike | None = None, *, source: str | None = None,
+                 strict: bool = False, data: bytes | None = None) -> Catalog:
+    """Load and check a catalogue. Raises CatalogError when the file cannot be
+    read at all, or (strict) when any row has an error."""
+    if source is None:
+        path, source = resolve_catalog(path)
+    path = str(path)
+    if data is None:
+        data = read_bytes(path, CatalogError, "catalogue")
+    known = set(cols._BY_LOWER) | {"rds_on_mohm", "price"}
+    table = read_table(path, error=CatalogError, what="catalogue", known=known, data=data)
+    catalog = _convert(table)
+    catalog.source = source
+    catalog.fingerprint = hashlib.sha256(data).hexdigest()
+    if strict and catalog.errors:
+        first = catalog.errors[0]
+        raise CatalogError(f"{first.message} ({len(catalog.errors)} error(s) in all; "
+                           f"run `picker catalog check {path}`)",
+                           file=first.file, line=first.line, column=first.column)
+    return catalog
+
+
+def _convert(table) -> Catalog:
+    path = table.path
+    problems: list[Problem] = []
+    bad_rows: set[int] = set()  # positions of rows with errors
+    lines = np.asarray(table.lines, dtype=np.int64)
+
+    def error(pos: int | None, col: int | None, message: str, name: str | None = None) -> None:
+        line = int(lines[pos]) if pos is not None else table.header_line
+        problems.append(Problem("error", path, line, col, message, name))
+        if pos is not None:
+            bad_rows.add(pos)
+
+    def warning(pos: int, col: int | None, message: str, name: str | None = None) -> None:
+        problems.append(Problem("warning", path, int(lines[pos]), col, message, name))
+
+    for line, column, message in table.problems:
+        pos = int(np.searchsorted(lines, line))
+        error(pos, column, message)
+
+    # Header: canonical names, duplicates, unusable point conditions.
+    names: list[str | None] = []
+    seen: dict[str, int] = {}
+    for i, raw in enumerate(table.header, start=1):
+        try:
+            name = cols.canonical(raw) if raw else None
+        except cols.HeaderProblem as exc:
+            error(None, i, str(exc))
+            names.append(None)
+            continue
+        if name is not None and name in seen:
+            error(None, i, f"column '{raw}' repeats column {seen[name]} ({name}); "
+                  "remove one of them")
+            name = None
+        if name is not None:
+            seen[name] = i
+        names.append(name)
+    for required in ("part", "kind"):
+        if required not in seen:
+            raise CatalogError(f"no '{required}' column in the header; a catalogue needs "
+                               f"'part' and 'kind' (found: {', '.join(table.header)})",
+                               file=path, line=table.header_line)
+
+    n = len(table.lines)
+    data: dict[str, object] = {}
+    col_of: dict[str, int] = {}
+    for i, (raw, name) in enumerate(zip(table.header, names), start=1):
+        cells = table.cells(i - 1)
+        if name is None:
+            if raw and raw not in data and not any(p.column == i and p.line == table.header_line
+                                                   for p in problems):
+                data[raw] = np.array(cells, dtype=object)  # unknown column: kept as text
+            continue
+        col_of[name] = i
+        unit, _ = cols.spec_of(name)
+        if unit is None:
+            data[name] = np.array(cells, dtype=object)
+        else:
+            values, bad = _numbers(cells, unit, table.decimal_comma)
+            for pos, message in bad:
+                error(pos, i, message, name)
+            data[name] = values
+    df = pd.DataFrame(data, index=pd.Index(lines, name="line"))
+    if n == 0:
+        df = df.iloc[0:0]
+
+    _normalise_text(df, col_of, error)
+    _signs(df, col_of, error)
+    _row_rules(df, col_of, error, warning)
+
+    keep = np.ones(n, dtype=bool)
+    keep[sorted(bad_rows)] = False
+    error_lines = [int(lines[p]) for p in sorted(bad_rows)]
+    problems.sort(key=lambda p: (p.line or 0, p.column or 0, p.severity))
+    return Catalog(df[keep].copy(), problems, path, "", n, encoding=table.encoding,
+                   delimiter=table.delimiter, error_lines=error_lines)
+
+
+def _numbers(cells: list[str], unit: str, decimal_comma: bool) -> tuple[np.ndarray, list]:
+    """Parse a column of cells to floats in `unit`: the plain numbers in one
+    vectorised pass, the rest (units, IEC codes) one by one. Unknown -> NaN."""
+    s = pd.Series(cells, dtype=object)
+    lower = s.str.lower()
+    blank = lower.isin(UNKNOWN_MARKERS).to_numpy()
+    text = s.str.replace(",", ".", regex=False) if decimal_comma else s
+    fast = pd.to_numeric(text.where(~blank, "nan"), errors="coerce").to_numpy(dtype=float)
+    slow = ~blank & ~np.isfinite(fast)
+    values = np.where(blank, np.nan, fast)
+    bad = []
+    for pos in np.flatnonzero(slow):
+        try:
+            values[pos] = parse_quantity(cells[pos], unit, decimal_comma=decimal_comma)
+        except QuantityError as exc:
+            values[pos] = np.nan
+            bad.append((int(pos), exc.message))
+    return values, bad
+
+
+def _normalise_text(df: pd.DataFrame, col_of: dict, error) -> None:
+    """part, kind, status, preferred: checked and written in canonical form."""
+    positions = np.arange(len(df))
+    part = df["part"].astype(str)
+    for pos in positions[(part == "").to_numpy()]:
+        error(int(pos), col_of["part"], "the part number is missing", "part")
+    kind = df["kind"].astype(str).str.lower()
+    for pos in positions[(kind == "").to_numpy()]:
+        error(int(pos), col_of["kind"], "the kind is missing; write pmos, nmos, npn or pnp", "kind")
+    unknown = (kind != "") & ~kind.isin(cols.KINDS)
+    for pos in positions[unknown.to_numpy()]:
+        error(int(pos), col_of["kind"], f"unknown kind '{df['kind'].iloc[pos]}'; "
+              "expected pmos, nmos, npn or pnp", "kind")
+    df["kind"] = kind.where(kind.isin(cols.KINDS), "")
+
+    key = part.str.replace(r"\s+", "", regex=True).str.casefold()
+    first_line: dict[str, int] = {}
+    for pos, (k, line) in enumerate(zip(key, df.index)):
+        if not k:
+            continue
+        if k in first_line:
+            error(pos, col_of["part"], f"duplicate part '{part.iloc[pos]}': already on line "
+                  f"{first_line[k]} (case and spaces are ignored)", "part")
+        else:
+            first_line[k] = int(line)
+
+    if "status" in df:
+        status = df["status"].astype(str).str.lower().replace("", "active")
+        for pos in positions[~status.isin(cols.STATUSES).to_numpy()]:
+            error(int(pos), col_of["status"], f"unknown status '{df['status'].iloc[pos]}'; "
+                  "expected active, nrnd or eol", "status")
+        df["status"] = status
+    else:
+        df["status"] = "active"
+    if "preferred" in df:
+        pref = df["preferred"].astype(str).str.lower()
+        for pos in positions[~pref.isin(YES | NO).to_numpy()]:
+            error(int(pos), col_of["preferred"], f"preferred is '{df['preferred'].iloc[pos]}'; "
+                  "expected yes or no", "preferred")
+        df["preferred"] = pref.isin(YES)
+    else:
+        df["preferred"] = False
+
+
+def _signs(df: pd.DataFrame, col_of: dict, error) -> None:
+    """Negative values: magnitudes on P-channel and PNP rows (as datasheets
+    print them), errors elsewhere; coefficients with sign 'any' are kept."""
+    p_type = df["kind"].isin(cols.P_TYPE_KINDS).to_numpy()
+    for name, col in col_of.items():
+        unit, sign = cols.spec_of(name)
+        if unit is None or sign == "any":
+            if name == "vgs_th_tc_mV/C":
+                df[name] = df[name].abs()
+            continue
+        values = df[name].to_numpy(dtype=float)
+        negative = values < 0
+        if not negative.any():
+            continue
+        allowed = negative & p_type if sign == "magnitude" else np.zeros_like(negative)
+        df[name] = np.where(allowed, -values, values)
+        spec = cols.COLUMNS.get(name)
+        what = "rating" if spec is not None and spec.rating else "value"
+        for pos in np.flatnonzero(negative & ~allowed):
+            hint = ("only P-channel and PNP values may be written negative"
+                    if sign == "magnitude" else "it must be positive")
+            error(int(pos), col, f"negative {what} {values[pos]:g} in {name}; {hint}", name)
+
+
+def _row_rules(df: pd.DataFrame, col_of: dict, error, warning) -> None:
+    """The catalogue check's rules between columns of a row."""
+    def arr(name: str) -> np.ndarray:
+        return df[name].to_numpy(dtype=float) if name in df else np.full(len(df), np.nan)
+
+    th_min, th_max = arr("vgs_th_min_V"), arr("vgs_th_max_V")
+    for pos in np.flatnonzero(th_min > th_max):
+        error(int(pos), col_of["vgs_th_min_V"], f"vgs_th_min_V {th_min[pos]:g} V is above "
+              f"vgs_th_max_V {th_max[pos]:g} V; swap or correct them", "vgs_th_min_V")
+    th_typ = arr("vgs_th_typ_V")
+    for pos in np.flatnonzero((th_typ > th_max) | (th_typ < th_min)):
+        warning(int(pos), col_of["vgs_th_typ_V"], f"vgs_th_typ_V {th_typ[pos]:g} V lies outside "
+                "the min..max threshold range", "vgs_th_typ_V")
+
+    rds = cols.point_columns(df.columns, "rds_on_mohm")
+    mosfet = df["kind"].isin(cols.MOSFET_KINDS).to_numpy()
+    for drive, name in rds:
+        for pos in np.flatnonzero(np.isfinite(arr(name)) & (drive <= th_max)):
+            error(int(pos), col_of[name], f"on-resistance given at {drive:g} V gate drive, at or "
+                  f"below vgs_th_max_V {th_max[pos]:g} V; the part is not on there", name)
+    _falling(df, rds, col_of, warning, "on-resistance", "does not fall as gate drive rises",
+             rising_is_bad=True)
+    prices = cols.point_columns(df.columns, "price")
+    _falling(df, prices, col_of, warning, "unit price", "rises with quantity", rising_is_bad=True,
+             strict=True)
+
+    if "rth_ja_C/W" in df:
+        no_thermal = mosfet & ~np.isfinite(arr("rth_ja_C/W"))
+    else:
+        no_thermal = mosfet
+    for pos in np.flatnonzero(no_thermal):
+        warning(int(pos), col_of.get("rth_ja_C/W"), "no rth_ja_C/W: self-heating cannot be "
+                "checked for this MOSFET", "rth_ja_C/W")
+    for pos in np.flatnonzero((df["status"] == "eol").to_numpy()):
+        warning(int(pos), col_of.get("status"), f"'{df['part'].iloc[pos]}' is end-of-life (eol)",
+                "status")
+
+
+def _falling(df, points, col_of, warning, what: str, verb: str, *, rising_is_bad: bool,
+             strict: bool = False) -> None:
+    """Warn where the value at a larger condition is not below (or, with
+    strict, is above) the value at the next smaller condition."""
+    for (c_lo, lo), (c_hi, hi) in zip(points, points[1:]):
+        a, b = df[lo].to_numpy(dtype=float), df[hi].to_numpy(dtype=float)
+        bad = (b > a) if strict else (b >= a)
+        for pos in np.flatnonzero(bad):
+            warning(int(pos), col_of[hi], f"{what} {verb}: {b[pos]:g} at {hi.split('@')[1]} "
+                    f"vs {a[pos]:g} at {lo.split('@')[1]}", hi)
+
+
+# -- helpers for the models and the CLI ----------------------------------------
+
+def values(df: pd.DataFrame, name: str, default: float = np.nan) -> np.ndarray:
+    """Column `name` as a float array; `default` where the column is absent or blank."""
+    if name not in df:
+        return np.full(len(df), default, dtype=float)
+    out = df[name].to_numpy(dtype=float, na_value=np.nan)
+    return out if default != default else np.where(np.isfinite(out), out, default)
+
+
+def points(df: pd.DataFrame, prefix: str) -> tuple[np.ndarray, np.ndarray]:
+    """(conditions (m,), values (n, m)) of one point family, conditions ascending.
+    Missing points are NaN. With no such column: shapes (0,) and (n, 0)."""
+    found = cols.point_columns(df.columns, prefix)
+    conditions = np.array([c for c, _ in found], dtype=float)
+    if not found:
+        return conditions, np.empty((len(df), 0))
+    matrix = np.column_stack([values(df, name) for _, name in found])
+    return conditions, matrix
+
+
+def normalise_part(name: str) -> str:
+    """The key parts are compared by: case and every non-alphanumeric ignored."""
+    return re.sub(r"[^0-9a-z]", "", name.casefold())
+
+
+def closest_parts(df: pd.DataFrame, name: str, limit: int = 5) -> list[str]:
+    """Catalogue part numbers closest to `name` (for 'did you mean')."""
+    from rapidfuzz import fuzz, process
+
+    names = df["part"].astype(str).tolist()
+    found = process.extract(normalise_part(name), [normalise_part(n) for n in names],
+                            scorer=fuzz.WRatio, limit=limit, score_cutoff=50)
+    return [names[i] for _, _, i in found]
+
+
+def select(df: pd.DataFrame, *, parts: list[str] = (), kinds: list[str] = (),
+           packages: list[str] = (), text: str | None = None) -> pd.DataFrame:
+    """The rows matching every filter given: named parts (case, spaces and
+    punctuation ignored), kinds, packages (case-insensitive) and a text found
+    in part, maker, package or notes. A named part that does not exist raises
+    CatalogError with the closest names."""
+    out = df
+    if parts:
+        keys = df["part"].astype(str).map(normalise_part)
+        wanted = [normalise_part(p) for p in parts]
+        for name, key in zip(parts, wanted):
+            if not (keys == key).any():
+                close = closest_parts(df, name)
+                hint = f"closest: {', '.join(close)}" if close else "no similar part numbers"
+                raise CatalogError(f"no part '{name}' in the catalogue; {hint}")
+        out = out[keys.isin(wanted)]
+    if kinds:
+        bad = [k for k in kinds if k.lower() not in cols.KINDS]
+        if bad:
+            raise CatalogError(f"unknown kind '{bad[0]}'; expected pmos, nmos, npn or pnp")
+        out = out[out["kind"].isin([k.lower() for k in kinds])]
+    if packages and "package" in out:
+        out = out[out["package"].astype(str).str.lower().isin([p.lower() for p in packages])]
+    if text:
+        fields = [c for c in ("part", "maker", "package", "notes") if c in out]
+        hay = out[fields].astype(str).agg(" ".join, axis=1).str.lower()
+        out = out[hay.str.contains(text.lower(), regex=False)]
+    return out

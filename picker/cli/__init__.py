@@ -1,0 +1,57 @@
+"""The command line: a thin typer layer that parses options, calls the core
+and hands the result to the one renderer. Heavy modules (pandas, numpy,
+rapidfuzz) are imported inside the commands that need them."""
+
+from __future__ import annotations
+
+import os
+import sys
+
+import typer
+from typer.core import TyperGroup
+
+from picker.errors import PickerError
+
+
+class _Commands(TyperGroup):
+    """Turns our own errors into one line on stderr and exit code 2."""
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except PickerError as exc:
+            typer.echo(f"Error: {exc}", err=True)
+            raise typer.Exit(2) from None
+
+
+app = typer.Typer(
+    cls=_Commands,
+    help="Choose the discrete transistors of a battery product's power path from your "
+         "own parts catalogue, at your own worst-case corners.",
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+    context_settings={"help_option_names": ["-h", "--help"]},
+)
+catalog_app = typer.Typer(help="Check, browse and update the parts catalogue.",
+                          no_args_is_help=True)
+app.add_typer(catalog_app, name="catalog")
+
+from picker.cli import catalog_cmd  # noqa: E402,F401  (registers the commands)
+
+
+def main() -> None:
+    """Console entry point: our errors exit 2 in one line; a bug exits 3."""
+    try:
+        app()
+    except PickerError as exc:  # raised outside a command (e.g. while parsing)
+        typer.echo(f"Error: {exc}", err=True)
+        sys.exit(2)
+    except KeyboardInterrupt:
+        sys.exit(130)
+    except Exception as exc:  # noqa: BLE001 - a bug: say so briefly, keep the details on request
+        if os.environ.get("PICKER_DEBUG"):
+            raise
+        typer.echo(f"picker: internal error ({type(exc).__name__}: {exc}); "
+                   "run again with PICKER_DEBUG=1 for the details and report it", err=True)
+        sys.exit(3)

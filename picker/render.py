@@ -1,0 +1,183 @@
+"""The one renderer: every command's rows go out as a table, CSV or JSON.
+
+A command builds a `Report` (sections of rows with typed columns, notes, and
+optionally its own JSON document) and hands it to `render`. Tables are for
+people (rich, engineering units); CSV and JSON are for scripts (plain numbers
+in the unit named by the column key, undecorated on stdout).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+from dataclasses import dataclass, field
+from typing import Any, Iterable
+
+from picker.quantities import format_quantity
+
+FORMATS = ("table", "csv", "json")
+
+# Characters a spreadsheet treats as the start of a formula (OWASP, "CSV
+# Injection"): such cells are written with a leading apostrophe.
+FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
+@dataclass(frozen=True)
+class Column:
+    key: str  # the field name in rows, CSV headers and JSON
+    header: str = ""  # the table header (defaults to key)
+    unit: str | None = None  # a quantities unit: the table shows engineering prefixes
+    digits: int = 3
+    numeric: bool = False  # CSV writes the raw value, never neutralised
+
+    @property
+    def title(self) -> str:
+        return self.header or self.key
+
+
+@dataclass
+class Section:
+    title: str | None
+    columns: list[Column]
+    rows: list[dict]
+    caption: list[str] = field(default_factory=list)  # lines printed under the table
+    bold: set[tuple[int, str]] = field(default_factory=set)  # (row index, key) emphasised
+
+
+@dataclass
+class Report:
+    sections: list[Section]
+    notes: list[str] = field(default_factory=list)  # lines under everything (table only)
+    data: Any = None  # the JSON document; default: the rows of every section
+    csv_columns: list[Column] | None = None  # CSV: these columns over csv_rows
+    csv_rows: list[dict] | None = None
+
+
+def clean(value: Any) -> Any:
+    """JSON-safe: NaN and infinities become null, numpy scalars plain floats."""
+    if isinstance(value, dict):
+        return {k: clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [clean(v) for v in value]
+    if hasattr(value, "item") and not isinstance(value, (str, bytes)):
+        value = value.item()
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
+def neutralise(text: str) -> str:
+    """A text cell a spreadsheet would run as a formula, made inert."""
+    return "'" + text if text.startswith(FORMULA_START) else text
+
+
+def csv_cell(value: Any, numeric: bool) -> str:
+    """How one value is written to CSV: numbers as the shortest exact text,
+    unknown as an empty cell, booleans yes/no, text neutralised."""
+    value = clean(value)
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, (int, float)) and numeric:
+        if isinstance(value, float) and value.is_integer() and abs(value) < 1e15:
+            return str(int(value))
+        return repr(value)
+    if isinstance(value, (list, tuple)):
+        value = "; ".join(str(v) for v in value)
+    return neutralise(str(value))
+
+
+def table_cell(value: Any, column: Column) -> str:
+    value = clean(value)
+    if value is None:
+        return "–"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, (list, tuple)):
+        return ", ".join(str(v) for v in value)
+    if isinstance(value, (int, float)) and column.unit:
+        return format_quantity(float(value), column.unit, column.digits)
+    if isinstance(value, float):
+        return f"{value:.{column.digits}g}"
+    return str(value)
+
+
+def write_csv(columns: list[Column], rows: Iterable[dict], out) -> None:
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow([neutralise(c.key) for c in columns])
+    for row in rows:
+        writer.writerow([csv_cell(row.get(c.key), c.numeric) for c in columns])
+
+
+def to_json(report: Report) -> str:
+    if report.data is not None:
+        document = report.data
+    else:
+        document = [clean({c.key: r.get(c.key) for c in s.columns})
+                    for s in report.sections for r in s.rows]
+    return json.dumps(clean(document), indent=2, ensure_ascii=False, allow_nan=False)
+
+
+def render(report: Report, fmt: str, out=None, *, width: int | None = None) -> None:
+    """Write `report` to `out` (default stdout) as 'table', 'csv' or 'json'."""
+    import sys
+
+    out = out or sys.stdout
+    if fmt == "json":
+        out.write(to_json(report) + "\n")
+    elif fmt == "csv":
+        if report.csv_rows is not None:
+            columns, rows = report.csv_columns, report.csv_rows
+        else:
+            columns = _union(s.columns for s in report.sections)
+            rows = [r for s in report.sections for r in s.rows]
+        write_csv(columns, rows, out)
+    elif fmt == "table":
+        _render_table(report, out, width)
+    else:
+        raise ValueError(fmt)
+
+
+def _union(groups: Iterable[list[Column]]) -> list[Column]:
+    seen: dict[str, Column] = {}
+    for group in groups:
+        for c in group:
+            seen.setdefault(c.key, c)
+    return list(seen.values())
+
+
+def _render_table(report: Report, out, width: int | None) -> None:
+    from rich import box
+    from rich.console import Console
+    from rich.table import Table
+    from rich.text import Text
+
+    if width is None and not (hasattr(out, "isatty") and out.isatty()):
+        width = 10_000  # not a terminal: never fold; tables take their natural width
+    console = Console(file=out, width=width, highlight=False, soft_wrap=False)
+    for section in report.sections:
+        table = Table(title=section.title, title_justify="left", box=box.SIMPLE_HEAD,
+                      title_style="bold", pad_edge=False)
+        for c in section.columns:
+            numeric = bool(c.unit or c.numeric)
+            table.add_column(c.title, justify="right" if numeric else "left",
+                             no_wrap=numeric, overflow="fold")
+        for i, row in enumerate(section.rows):
+            cells = []
+            for c in section.columns:
+                text = table_cell(row.get(c.key), c)
+                cells.append(Text(text, style="bold" if (i, c.key) in section.bold else ""))
+            table.add_row(*cells)
+        if section.rows:
+            console.print(table)
+        elif section.title:
+            console.print(Text(section.title, style="bold"))
+        for line in section.caption:
+            console.print(Text(line))
+        if section.caption:
+            console.print()
+    for line in report.notes:
+        console.print(Text(line))

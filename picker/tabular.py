@@ -1,0 +1,158 @@
+"""Reading delimited text files people make: catalogues, BOMs, suppliers' tables.
+
+One reader for all of them: it decodes UTF-8 (with or without a byte-order
+mark), UTF-16 with a byte-order mark, or Windows-1252; detects a comma,
+semicolon or tab separator from the header line; and returns every cell as
+text with the file line each row starts on, so later errors can name it.
+Nothing here knows what the columns mean.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+from picker.errors import PickerError, TooLarge
+
+DELIMITERS = (",", ";", "\t")
+DELIMITER_NAMES = {",": "comma", ";": "semicolon", "\t": "tab"}
+MAX_BYTES = 2 * 1024**3  # refuse files over 2 GiB rather than exhaust memory
+MAX_ROWS = 10_000_000
+
+
+@dataclass
+class TextTable:
+    """A delimited file as text cells: header, rows, and where each row starts."""
+
+    path: str
+    encoding: str
+    delimiter: str
+    header: list[str]
+    header_line: int
+    columns: list[list[str]]  # cells by column position, one list per column
+    lines: list[int]  # file line on which each data row starts
+    problems: list[tuple[int, int, str]]  # (line, column, message) for ragged rows
+
+    @property
+    def decimal_comma(self) -> bool:
+        """A semicolon- or tab-separated file may write decimals with a comma."""
+        return self.delimiter != ","
+
+    def cells(self, position: int) -> list[str]:
+        """The cells of column `position` (0-based), one per data row."""
+        return self.columns[position]
+
+
+def read_bytes(path: str | os.PathLike, error: type[PickerError], what: str) -> bytes:
+    """The file's bytes, or `error` with a message that says what to do."""
+    p = Path(path)
+    try:
+        size = p.stat().st_size
+        if p.is_dir():
+            raise error(f"{what} '{p}' is a folder; give the path of a CSV file", file=str(p))
+        if size > MAX_BYTES:
+            raise TooLarge(f"{what} is {size / 1024**3:.1f} GiB; picker reads files up to "
+                           f"{MAX_BYTES // 1024**3} GiB (split it, or keep only the parts you use)",
+                           file=str(p))
+        return p.read_bytes()
+    except FileNotFoundError:
+        raise error(f"no such {what} file; check the path", file=str(p)) from None
+    except PermissionError:
+        raise error(f"cannot read this {what} file (permission denied)", file=str(p)) from None
+    except IsADirectoryError:
+        raise error(f"{what} '{p}' is a folder; give the path of a CSV file", file=str(p)) from None
+    except OSError as exc:
+        raise error(f"cannot read this {what} file: {exc.strerror or exc}", file=str(p)) from None
+
+
+def decode(data: bytes, path: str, error: type[PickerError]) -> tuple[str, str]:
+    """Text and encoding name: UTF-8 (BOM optional), UTF-16 with BOM, else
+    Windows-1252. Bytes that are neither are reported with their line."""
+    if data.startswith(b"\xef\xbb\xbf"):
+        candidates = ["utf-8-sig"]
+    elif data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        candidates = ["utf-16"]
+    else:
+        candidates = ["utf-8", "cp1252"]
+    last: UnicodeDecodeError | None = None
+    for encoding in candidates:
+        try:
+            return data.decode(encoding), encoding
+        except UnicodeDecodeError as exc:
+            last = exc
+    assert last is not None
+    line = data[: last.start].count(b"\n") + 1
+    column = last.start - (data.rfind(b"\n", 0, last.start) + 1) + 1
+    raise error(f"byte 0x{data[last.start]:02x} is neither UTF-8 nor Windows-1252 text; "
+                "save the file as UTF-8", file=path, line=line, column=column)
+
+
+def detect_delimiter(header_line: str, known: set[str] | None = None) -> str:
+    """The separator of a header line: the candidate that splits it into the
+    most fields, ties broken by how many fields are known column names."""
+    def score(delim: str) -> tuple[int, int]:
+        fields = next(csv.reader([header_line], delimiter=delim), [])
+        hits = sum(1 for f in fields if known and f.strip().lower() in known)
+        return (hits, len(fields))
+    return max(DELIMITERS, key=lambda d: (score(d)[0], score(d)[1], -DELIMITERS.index(d)))
+
+
+def read_table(path: str | os.PathLike, *, error: type[PickerError], what: str,
+               known: set[str] | None = None, data: bytes | None = None) -> TextTable:
+    """Read a delimited file into text cells, with the line of every row.
+
+    The header is the first line that is not blank. Rows whose field count
+    differs from the header's are kept (padded or cut) but listed in
+    `problems` with the line and the first column that does not fit; wholly
+    blank lines are skipped. Cells are stripped of surrounding spaces.
+    """
+    path = str(path)
+    if data is None:
+        data = read_bytes(path, error, what)
+    if b"\x00" in data and not data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        at = data.index(b"\x00")
+        raise error("the file contains a NUL byte; it is not a text CSV file "
+                    "(export it again as CSV)", file=path, line=data[:at].count(b"\n") + 1)
+    text, encoding = decode(data, path, error)
+    lines = text.splitlines()
+    first = next((i for i, ln in enumerate(lines) if ln.strip()), None)
+    if first is None:
+        raise error(f"the {what} file is empty; it needs a header line", file=path)
+    delimiter = detect_delimiter(lines[first], known)
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter, strict=False)
+    header: list[str] | None = None
+    header_line = 0
+    width = 0
+    columns: list[list[str]] = []
+    row_lines: list[int] = []
+    problems: list[tuple[int, int, str]] = []
+    line_before = 0
+    try:
+        for row in reader:
+            start = line_before + 1
+            line_before = reader.line_num
+            if not any(cell.strip() for cell in row):
+                continue
+            if header is None:
+                header = [cell.strip() for cell in row]
+                header_line, width = start, len(header)
+                columns = [[] for _ in header]
+                continue
+            if len(row) != width:
+                column = min(len(row), width) + 1
+                problems.append((start, column, f"this row has {len(row)} fields, the header "
+                                 f"has {width}; a separator is missing or doubled"))
+                row = (row + [""] * width)[:width]
+            for store, cell in zip(columns, row):
+                store.append(cell.strip())
+            row_lines.append(start)
+            if len(row_lines) > MAX_ROWS:
+                raise TooLarge(f"the {what} has more than {MAX_ROWS:,} rows; picker reads "
+                               "up to that many (split the file)", file=path)
+    except csv.Error as exc:
+        raise error(f"the CSV structure is broken: {exc}", file=path, line=reader.line_num) from None
+    assert header is not None
+    return TextTable(path, encoding, delimiter, header, header_line, columns, row_lines, problems)
