@@ -1,0 +1,1 @@
+"""Pure, vectorised models: on-resistance, self-heating, leakage, bipolar switch, price."""

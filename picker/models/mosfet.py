@@ -1,0 +1,132 @@
+"""MOSFET on-resistance against gate drive and temperature (models.md §1-§2).
+
+Model: ``R(Vg, T) = (R_fix + K / (Vg - Vt(T))) * (1 + a (T - 25))`` with
+``Vt(T) = Vt25 - k_vt (T - 25)``. All voltages are magnitudes (a P-channel
+part's -2.5 V drive is 2.5 V). Every function broadcasts over the catalogue:
+arrays of shape (n_parts,) or (n_parts, n_points). NaN means unknown and
+propagates, except in the temperature-coefficient overrides, where NaN means
+"no override" and the default below is used (filled inside these functions).
+"""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from picker.models._defaults import or_default
+
+K_VT_V_PER_C = 0.003  # threshold falls 3 mV/°C, low-voltage trench parts (from memory)
+RDS_TC_PER_C = 0.005  # on-resistance rises 0.5 %/°C, about x1.5 at 125 °C (from memory)
+
+
+@dataclass(frozen=True)
+class OnResistanceFit:
+    """Fitted ``R(Vg) = r_fix_ohm + k_ohm_V / (Vg - Vt)`` at 25 °C, one entry per part.
+
+    ``r_fix_ohm`` [ohm] and ``k_ohm_V`` [ohm·V] are NaN where the fit is unknown
+    (no point, no threshold, or a point at or below the threshold).
+    ``lowest_drive_V`` [V] is the lowest datasheet drive (NaN with no point);
+    evaluating below it is an extrapolation. ``n_points`` counts the usable points.
+    """
+
+    r_fix_ohm: np.ndarray
+    k_ohm_V: np.ndarray
+    lowest_drive_V: np.ndarray
+    n_points: np.ndarray
+
+
+def fit_on_resistance(drive_V, rds_ohm, vt_V) -> OnResistanceFit:
+    """Fit ``R_i = R_fix + K x_i``, ``x_i = 1 / (V_i - Vt)``, per part, R_fix >= 0, K >= 0.
+
+    drive_V [V], rds_ohm [ohm]: shape (n, m) (drive_V may also be the (m,)
+    column drives, shared by all parts); a point counts where both are finite.
+    vt_V [V]: shape (n,), the worst-case (maximum) threshold.
+
+    Basis: the long-channel triode region, ``Id = k (Vgs - Vt) Vds`` at small
+    Vds, so the channel is ``1 / (k (Vgs - Vt))`` (Sedra & Smith, MOSFET triode
+    region); R_fix is the part that does not depend on the gate (models.md §1).
+
+    - two or more points: closed-form least squares from masked sums
+      ``n, Sx, Sxx, SR, SxR``: ``K = (n SxR - Sx SR) / (n Sxx - Sx^2)``,
+      ``R_fix = (SR - K Sx) / n``. If ``R_fix < 0``: ``R_fix = 0``,
+      ``K = SxR / Sxx`` (through the origin). If ``K < 0``: ``K = 0``,
+      ``R_fix = SR / n``. Points all at one drive (``n Sxx - Sx^2 = 0``) are
+      fitted through the origin, like one point.
+    - one point: ``R_fix = 0``, ``K = R_1 (V_1 - Vt)`` (= SxR / Sxx).
+    - no point, NaN threshold, or any point with ``V_i <= Vt``: NaN.
+    """
+    drive_V, rds_ohm = np.broadcast_arrays(np.atleast_2d(np.asarray(drive_V, dtype=float)),
+                                           np.atleast_2d(np.asarray(rds_ohm, dtype=float)))
+    vt_V = np.asarray(vt_V, dtype=float)
+    vt_col = vt_V[:, None] if vt_V.ndim else vt_V
+
+    used = np.isfinite(drive_V) & np.isfinite(rds_ohm)
+    n = used.sum(axis=1)
+    # a point at or below Vt is a catalogue error: no fit through it
+    bad = (n == 0) | np.isnan(vt_V) | np.any(used & ~(drive_V > vt_col), axis=1)
+
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x = np.where(used, 1.0 / (drive_V - vt_col), 0.0)  # garbage only in `bad` rows
+        r = np.where(used, rds_ohm, 0.0)
+        sx, sxx, sr, sxr = x.sum(1), (x * x).sum(1), r.sum(1), (x * r).sum(1)
+        k_origin = sxr / sxx
+        den = n * sxx - sx * sx
+        spread = (n >= 2) & (den > 1e-12 * n * sxx)
+        k_free = (n * sxr - sx * sr) / den
+        r_free = (sr - k_free * sx) / n
+        mean_r = sr / n
+
+    k_neg = spread & (k_free < 0)
+    r_neg = spread & ~k_neg & (r_free < 0)
+    free = spread & ~k_neg & ~r_neg
+    k = np.where(free, k_free, np.where(k_neg, 0.0, k_origin))
+    r_fix = np.where(free, r_free, np.where(k_neg, mean_r, 0.0))
+
+    lowest = np.min(np.where(used, drive_V, np.inf), axis=1)
+    return OnResistanceFit(
+        r_fix_ohm=np.where(bad, np.nan, r_fix),
+        k_ohm_V=np.where(bad, np.nan, k),
+        lowest_drive_V=np.where(n > 0, lowest, np.nan),
+        n_points=n,
+    )
+
+
+def threshold_at(vt25_V, t_C, k_vt_V_per_C=K_VT_V_PER_C):
+    """Gate threshold at temperature: ``Vt(T) = Vt25 - k_vt (T - 25)``.
+
+    vt25_V [V] threshold at 25 °C; t_C [°C]; k_vt_V_per_C [V/°C], scalar or
+    per part, NaN entries mean "use K_VT_V_PER_C". Source: models.md §2,
+    3 mV/°C from memory.
+    """
+    k_vt = or_default(k_vt_V_per_C, K_VT_V_PER_C)
+    return np.asarray(vt25_V, dtype=float) - k_vt * (np.asarray(t_C, dtype=float) - 25.0)
+
+
+def on_resistance(vg_V, t_C, r_fix_ohm, k_ohm_V, vt25_V,
+                  k_vt_V_per_C=K_VT_V_PER_C, rds_tc_per_C=RDS_TC_PER_C):
+    """On-resistance at gate drive and junction temperature [ohm].
+
+    ``R(Vg, T) = (R_fix + K / (Vg - Vt(T))) * (1 + a (T - 25))``, NaN where
+    ``Vg <= Vt(T)`` (the channel is not on; the model says nothing there).
+
+    vg_V [V] drive magnitude; t_C [°C] junction temperature; r_fix_ohm [ohm]
+    and k_ohm_V [ohm·V] from ``fit_on_resistance``; vt25_V [V] the threshold
+    the fit used (vgs_th_max_V); k_vt_V_per_C [V/°C] and rds_tc_per_C [1/°C]
+    scalar or per part, NaN entries mean the default. Sources: Sedra & Smith,
+    MOSFET triode region (the 1/(Vg - Vt) term); models.md §2 coefficients,
+    from memory.
+    """
+    t_C = np.asarray(t_C, dtype=float)
+    a = or_default(rds_tc_per_C, RDS_TC_PER_C)
+    overdrive_V = np.asarray(vg_V, dtype=float) - threshold_at(vt25_V, t_C, k_vt_V_per_C)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        r25 = np.asarray(r_fix_ohm, dtype=float) + np.asarray(k_ohm_V, dtype=float) / overdrive_V
+    return np.where(overdrive_V > 0, r25 * (1.0 + a * (t_C - 25.0)), np.nan)
+
+
+def extrapolated(vg_V, lowest_drive_V):
+    """True where the drive vg_V [V] is below the lowest datasheet drive lowest_drive_V [V].
+
+    models.md §1: such a figure is still given, with the note ``extrapolated``.
+    False where either is NaN.
+    """
+    return np.asarray(vg_V, dtype=float) < np.asarray(lowest_drive_V, dtype=float)
