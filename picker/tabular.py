@@ -154,5 +154,6 @@ def read_table(path: str | os.PathLike, *, error: type[PickerError], what: str,
                                "up to that many (split the file)", file=path)
     except csv.Error as exc:
         raise error(f"the CSV structure is broken: {exc}", file=path, line=reader.line_num) from None
-    assert header is not None
+    if header is None:  # only separators and spaces
+        raise error(f"the {what} file has no header line (only empty fields)", file=path)
     return TextTable(path, encoding, delimiter, header, header_line, columns, row_lines, problems)
