@@ -1,0 +1,509 @@
+"""The requirement file (TOML) and command-line quick questions -> frozen
+dataclasses in SI units (V, A, ohm, Ah; temperatures in °C).
+
+Quantities are strings with units ("60 mV", "68 kohm", "-20 degC") or plain
+numbers in those units. Every problem is one `RequirementError` naming the
+file, the line of the key (found by scanning the text: tomllib gives no key
+positions) and the key path; for command-line options, the option
+(`--max-drop: ...`).
+
+A quick question (`from_options` without `base`) fills in what is not given:
+
+- supply 3.0..4.2 V: one lithium-ion cell, empty to full, the scope of this tool;
+- ambient -20..50 °C: our choice for a handheld product carried outdoors (a
+  narrower default would flatter the parts);
+- volume 1000 boards, refs ("Q?",), the role named after `role` or its use.
+`assumed(options)` lists the defaults applied, for the CLI to print.
+"""
+
+from __future__ import annotations
+
+import re
+import tomllib
+from dataclasses import dataclass
+
+from picker.errors import QuantityError, RequirementError
+from picker.quantities import format_quantity, parse_quantity, parse_range
+
+USES = ("high-side-pmos", "low-side-nmos", "npn-switch", "pnp-switch")
+KIND_OF_USE = {"high-side-pmos": "pmos", "low-side-nmos": "nmos", "npn-switch": "npn", "pnp-switch": "pnp"}
+PASS_USES = ("high-side-pmos", "low-side-nmos")
+
+MAX_FILE_BYTES, MAX_ROLES, MAX_REFS = 1_000_000, 200, 1000  # files people receive from others
+MAX_VOLUME, MAX_QTY = 10**9, 100_000
+QUICK_SUPPLY_V, QUICK_AMBIENT_C, QUICK_VOLUME, QUICK_REFS = (3.0, 4.2), (-20.0, 50.0), 1000, ("Q?",)
+
+
+@dataclass(frozen=True)
+class Supply:
+    min_V: float
+    max_V: float
+    capacity_Ah: float | None = None
+
+
+@dataclass(frozen=True)
+class Ambient:
+    min_C: float
+    max_C: float
+
+
+@dataclass(frozen=True)
+class Margins:
+    derate_v: float = 0.8      # common practice (models.md §6)
+    derate_i: float = 0.5      # common practice (models.md §6)
+    tj_margin_C: float = 25.0  # below the part's tj_max_C, common practice (models.md §3)
+
+
+@dataclass(frozen=True)
+class Role:
+    name: str
+    refs: tuple[str, ...]
+    use: str
+    qty: int | None = None                    # overrides len(refs) as parts per board
+    load_A: float | None = None               # pass switches (high-side-pmos, low-side-nmos)
+    max_drop_V: float | None = None
+    gate_drive_V: float | None = None         # None means "supply"
+    gate_drive_drop_V: float = 0.1
+    max_tj_C: float | None = None
+    collector_current_A: float | None = None  # saturated switches (npn-switch, pnp-switch)
+    base_drive_V: float | None = None         # None means "supply"
+    base_resistor_ohm: float | None = None
+    overdrive: float = 2.0
+    max_vce_sat_V: float | None = None
+    max_off_current_A: float | None = None    # both
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "refs", tuple(self.refs))
+        if self.use not in USES:
+            raise RequirementError(f"role '{self.name}': unknown use '{self.use}'; one of {', '.join(USES)}")
+
+    @property
+    def kind(self) -> str:
+        return KIND_OF_USE[self.use]
+
+    @property
+    def is_pass_switch(self) -> bool:
+        return self.use in PASS_USES
+
+    @property
+    def parts_per_board(self) -> int:
+        return self.qty if self.qty is not None else len(self.refs)
+
+
+@dataclass(frozen=True)
+class Requirements:
+    supply: Supply
+    ambient: Ambient
+    volume: int
+    margins: Margins
+    roles: tuple[Role, ...]
+    source: str = ""  # the file path, or "command line"
+
+    def role(self, name: str) -> Role:
+        for r in self.roles:
+            if r.name == name:
+                return r
+        names = [r.name for r in self.roles]
+        close = _closest(name, names)
+        tip = f"did you mean {_or(close)}?" if close else f"the roles are {', '.join(names[:20])}"
+        raise RequirementError(f"no role named '{name}'; {tip}",
+                               file=self.source if self.source not in ("", "command line") else None)
+
+
+# -- the keys, as data -------------------------------------------------------------------
+
+TOP_KEYS = ("supply", "ambient", "build", "margins", "role")
+TABLE_KEYS = {"supply": ("min", "max", "capacity"), "ambient": ("min", "max"),
+              "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin")}
+COMMON_KEYS = ("name", "refs", "use", "qty", "max_off_current")
+FAMILY_KEYS = {True: ("load", "max_drop", "gate_drive", "gate_drive_drop", "max_tj"),  # by is_pass_switch
+               False: ("collector_current", "base_drive", "base_resistor", "overdrive", "max_vce_sat")}
+ROLE_KEYS = COMMON_KEYS + FAMILY_KEYS[True] + FAMILY_KEYS[False]
+REQUIRED = {True: ("load", "max_drop"), False: ("collector_current", "base_resistor")}
+
+# key: (field, unit, rule, example)
+QUANTITIES = {
+    "load": ("load_A", "A", "positive", "1.5 A"),
+    "max_drop": ("max_drop_V", "V", "positive", "60 mV"),
+    "gate_drive": ("gate_drive_V", "V", "drive", "supply"),
+    "gate_drive_drop": ("gate_drive_drop_V", "V", "non-negative", "0.1 V"),
+    "max_tj": ("max_tj_C", "degC", "temperature", "100 degC"),
+    "collector_current": ("collector_current_A", "A", "positive", "40 uA"),
+    "base_drive": ("base_drive_V", "V", "drive", "supply"),
+    "base_resistor": ("base_resistor_ohm", "ohm", "positive", "68 kohm"),
+    "overdrive": ("overdrive", "1", "at-least-1", "2"),
+    "max_vce_sat": ("max_vce_sat_V", "V", "positive", "0.15 V"),
+    "max_off_current": ("max_off_current_A", "A", "positive", "1 uA"),
+    "derate_v": ("derate_v", "1", "fraction", "0.8"),
+    "derate_i": ("derate_i", "1", "fraction", "0.5"),
+    "tj_margin": ("tj_margin_C", "degC", "non-negative", "25 degC"),
+}
+RULES = {  # rule: (test the value must pass, what the message says otherwise)
+    "positive": (lambda x: x > 0, "must be above zero"),
+    "non-negative": (lambda x: x >= 0, "must not be negative"),
+    "drive": (lambda x: x > 0, 'must be "supply" or a voltage above zero (write magnitudes: '
+                               'a gate pulled to -2.5 V is "2.5 V")'),
+    "temperature": (lambda x: x >= -273.15, "is below absolute zero"),
+    "at-least-1": (lambda x: x >= 1, "must be 1 or more"),
+    "fraction": (lambda x: 0 < x <= 1, "must be above 0 and at most 1 (0.8 uses a rating up to 80 %)"),
+}
+EXAMPLES = {"name": '"pass"', "refs": '["Q1"]', "use": '"high-side-pmos"', "volume": "5000",
+            "supply.min": '"3.0 V"', "supply.max": '"4.2 V"', "ambient.min": '"-20 degC"',
+            "ambient.max": '"45 degC"', **{k: f'"{v[3]}"' for k, v in QUANTITIES.items()}}
+
+# option key -> (table, key); key None: a range 'MIN..MAX' filling min and max
+OPTION_KEYS = {"supply": ("supply", None), "ambient": ("ambient", None), "capacity": ("supply", "capacity"),
+               "volume": ("build", "volume"), "max_off": ("role", "max_off_current"),
+               **{k: ("margins", k) for k in TABLE_KEYS["margins"]},
+               **{k: ("role", k) for k in ROLE_KEYS if k != "max_off_current"}}
+
+
+def _closest(word: str, choices, cutoff: float = 0.6) -> list[str]:
+    import difflib  # only on the error path
+
+    return difflib.get_close_matches(word, list(choices), n=3, cutoff=cutoff)
+
+
+def _or(words) -> str:
+    quoted = [f"'{w}'" for w in words]
+    return quoted[0] if len(quoted) == 1 else ", ".join(quoted[:-1]) + " or " + quoted[-1]
+
+
+def _a(use: str) -> str:
+    return f"an {use}" if use.startswith("n") else f"a {use}"  # 'an npn-switch', 'a pnp-switch'
+
+
+# -- where a problem is: a place in a file, or a command-line option ----------------------
+
+class _FileWhere:
+    """Labels a key path (`[[role]] #2 "latch" load`) and finds its line by scanning the text."""
+
+    _HEADER = re.compile(r"\s*(\[\[?)\s*([^\[\]#]+?)\s*\]")
+
+    def __init__(self, source: str, text: str, doc: dict) -> None:
+        self.source, self.doc, self.lines = source, doc, text.split("\n")
+        starts, in_string = [("", 0)], None  # (header, 0-based line); "" is the top level
+        for n, line in enumerate(self.lines):
+            if in_string is None and (m := self._HEADER.match(line)):
+                starts.append((m.group(1) + re.sub(r"[\s\"']", "", m.group(2)), n))
+            for quote in ('"""', "'''"):  # skip headers inside multi-line strings
+                if in_string in (None, quote) and line.count(quote) % 2:
+                    in_string = None if in_string else quote
+        ends = [n for _, n in starts[1:]] + [len(self.lines)]
+        self.sections = [(h, n, end) for (h, n), end in zip(starts, ends)]
+
+    def label(self, path: tuple) -> str:
+        if path[:1] == ("role",) and len(path) > 1:
+            name = self.doc["role"][path[1]].get("name")
+            head = f"[[role]] #{path[1] + 1}" + (f' "{name}"' if isinstance(name, str) else "")
+            return " ".join([head, *path[2:]])
+        return " ".join([f"[{path[0]}]", *path[1:]]) if path[:1] and path[0] in TABLE_KEYS else ".".join(path)
+
+    def _find(self, path: tuple) -> tuple[int, int] | None:
+        if path[0] == "role" and len(path) > 1:
+            roles = [s for s in self.sections if s[0] == "[[role"]
+            section, keys = (roles[path[1]] if path[1] < len(roles) else None), path[2:]
+        else:
+            tables = [s for s in self.sections if s[0] == "[" + path[0]]
+            section, keys = (tables[0], path[1:]) if tables else (self.sections[0], path)
+        if section is None or not keys:
+            return section and (section[1] + 1, 1)
+        key = re.compile(r"\s*(%s|\"%s\"|'%s')\s*[=.]" % ((re.escape(keys[0]),) * 3))
+        for n in range(section[1] + bool(section[0]), section[2]):
+            if key.match(self.lines[n]):
+                return n + 1, len(self.lines[n]) - len(self.lines[n].lstrip()) + 1
+        return None
+
+    def fail(self, path: tuple, message: str, *, at: tuple | None = None):
+        at = path if at is None else at
+        found = next((f for cut in range(len(at), 0, -1) if (f := self._find(at[:cut]))), (None, None))
+        label = self.label(path)  # the key, else the table around it
+        raise RequirementError(f"{label}: {message}" if label else message,
+                               file=self.source, line=found[0], column=found[1])
+
+    def missing(self, table: tuple, key: str, why: str = ""):
+        example = EXAMPLES.get(f"{table[0]}.{key}") or EXAMPLES[key]
+        self.fail(table, f"missing key '{key}'" + (f", required{why}" if why else "") + f"; e.g. {key} = {example}")
+
+
+class _OptionWhere:
+    """Labels a key path with the command-line option that sets it (`--max-drop`)."""
+
+    def __init__(self, doc: dict) -> None:
+        self.doc = doc
+
+    def label(self, path: tuple) -> str:
+        if not path:
+            return "options"
+        key = path[-1] if path[-1] not in ("min", "max") else path[0]
+        return "--" + ("max_off" if key == "max_off_current" else key).replace("_", "-")
+
+    def fail(self, path: tuple, message: str, *, at: tuple | None = None):
+        raise RequirementError(f"{self.label(path)}: {message}")
+
+    def missing(self, table: tuple, key: str, why: str = ""):
+        option = self.label((*table, key))
+        raise RequirementError(f"{option} is required{why}; e.g. {option} {EXAMPLES[key].strip(chr(34))}")
+
+
+# -- reading values ------------------------------------------------------------------------
+
+def _quantity(where, path: tuple, value, unit: str, rule: str, example: str):
+    if rule == "drive" and isinstance(value, str) and value.strip().lower() == "supply":
+        return None
+    if isinstance(value, bool) or not isinstance(value, (str, int, float)):
+        what = {bool: "true/false", list: "a list", dict: "a table"}.get(type(value), "a date")
+        where.fail(path, f'expected a value such as "{example}", not {what}')
+    try:
+        number = parse_quantity(value, unit)
+    except QuantityError as err:
+        where.fail(path, err.message + ('; or "supply"' if rule == "drive" else ""))
+    test, need = RULES[rule]
+    if not test(number):
+        where.fail(path, f"'{value}' {need}")
+    return number
+
+
+def _count(where, path: tuple, value, limit: int) -> int:
+    if isinstance(value, str) and re.fullmatch(r"\s*\d+\s*", value):
+        value = int(value)
+    if isinstance(value, bool) or not isinstance(value, int) or value < 1:
+        where.fail(path, f"'{value}' must be a whole number, 1 or more")
+    if value > limit:
+        where.fail(path, f"{value:,} is over the limit of {limit:,}")
+    return value
+
+
+def _table(where, doc: dict, name: str, required: tuple[str, ...]) -> dict:
+    table = doc.get(name, None if required else {})
+    if table is None:
+        where.fail((), f"missing table [{name}]; e.g. [{name}] with "
+                       + " and ".join(f"{k} = {EXAMPLES.get(f'{name}.{k}') or EXAMPLES[k]}" for k in required))
+    if not isinstance(table, dict):
+        where.fail((name,), f"must be a table: a line [{name}] followed by its keys")
+    for key in table:
+        if key not in TABLE_KEYS[name]:
+            close = _closest(key, TABLE_KEYS[name])
+            tip = f"did you mean {_or(close)}?" if close else f"the keys are {', '.join(TABLE_KEYS[name])}"
+            where.fail((name,), f"unknown key '{key}'; {tip}", at=(name, key))
+    for key in required:
+        if key not in table:
+            where.missing((name,), key)
+    return table
+
+
+def _range(where, table: dict, name: str, unit: str, rule: str) -> tuple[float, float]:
+    low, high = (_quantity(where, (name, k), table[k], unit, rule, EXAMPLES[f"{name}.{k}"].strip('"'))
+                 for k in ("min", "max"))
+    if low > high:
+        where.fail((name, "min"), f"{format_quantity(low, unit)} is above max ({format_quantity(high, unit)})")
+    return low, high
+
+
+# -- the document -> Requirements -----------------------------------------------------------
+
+def _build(doc: dict, where, source: str) -> Requirements:
+    for key, value in doc.items():
+        if key not in TOP_KEYS:
+            close = _closest(key, TOP_KEYS)
+            what = f"table [{key}]" if isinstance(value, dict) else f"top-level key '{key}'"
+            tip = f"did you mean {_or(close)}?" if close else f"the tables are {', '.join(TOP_KEYS)}"
+            where.fail((), f"unknown {what}; {tip}", at=(key,))
+    supply_t, ambient_t = _table(where, doc, "supply", ("min", "max")), _table(where, doc, "ambient", ("min", "max"))
+    build_t, margins_t = _table(where, doc, "build", ("volume",)), _table(where, doc, "margins", ())
+    capacity = supply_t.get("capacity")
+    supply = Supply(*_range(where, supply_t, "supply", "V", "positive"),
+                    None if capacity is None else
+                    _quantity(where, ("supply", "capacity"), capacity, "Ah", "positive", "2.0 Ah"))
+    ambient = Ambient(*_range(where, ambient_t, "ambient", "degC", "temperature"))
+    volume = _count(where, ("build", "volume"), build_t["volume"], MAX_VOLUME)
+    margins = Margins(**{QUANTITIES[k][0]: _quantity(where, ("margins", k), v, *QUANTITIES[k][1:])
+                         for k, v in margins_t.items()})
+    roles = doc.get("role")
+    if not roles:
+        where.fail((), "no [[role]] tables: describe at least one transistor role")
+    if not isinstance(roles, list) or not all(isinstance(r, dict) for r in roles):
+        where.fail(("role",), "write each role as a table headed [[role]] (two brackets)")
+    if len(roles) > MAX_ROLES:
+        where.fail(("role", MAX_ROLES), f"more than {MAX_ROLES} roles; split the design into several files")
+    built: list[Role] = []
+    owner: dict[str, str] = {}  # ref (upper case) -> role name
+    for i, raw in enumerate(roles):
+        role = _role(where, i, raw)
+        if any(other.name.casefold() == role.name.casefold() for other in built):
+            where.fail(("role", i, "name"), f"'{role.name}' names two roles; give each its own name")
+        for ref in role.refs:
+            if ref.upper() in owner:
+                where.fail(("role", i, "refs"), f"'{ref}' is in roles '{owner[ref.upper()]}' and "
+                                                f"'{role.name}'; a part belongs to one role")
+            owner[ref.upper()] = role.name
+        built.append(role)
+    return Requirements(supply, ambient, volume, margins, tuple(built), source)
+
+
+def _role(where, i: int, raw: dict) -> Role:
+    here = ("role", i)
+    use = raw.get("use") if raw.get("use") in USES else None
+    allowed = COMMON_KEYS + FAMILY_KEYS[use in PASS_USES] if use else ROLE_KEYS
+    for key in raw:
+        if key not in ROLE_KEYS:
+            close = _closest(key, allowed)
+            tip = f"did you mean {_or(close)}?" if close else f"the keys are {', '.join(allowed)}"
+            where.fail(here, f"unknown key '{key}'; {tip}", at=(*here, key))
+    for key in ("name", "refs", "use"):
+        if key not in raw:
+            where.missing(here, key)
+    name, refs = raw["name"], raw["refs"]
+    if not isinstance(name, str) or not name.strip():
+        where.fail((*here, "name"), 'must be a non-empty text, e.g. name = "pass"')
+    if use is None:
+        text = raw["use"]
+        close = [u for u in USES if KIND_OF_USE[u] == text] or _closest(str(text), USES, cutoff=0.5)
+        tip = f"did you mean {_or(close)}?" if close else f"one of {', '.join(USES)}"
+        where.fail((*here, "use"), f"unknown use '{text}'; {tip}")
+    if not isinstance(refs, list) or not all(isinstance(r, str) and r.strip() for r in refs):
+        where.fail((*here, "refs"), 'must be a list of reference designators, e.g. refs = ["Q2", "Q3"]')
+    if not refs:
+        where.fail((*here, "refs"), 'is empty; list the parts in this role, e.g. refs = ["Q1"]')
+    if len(refs) > MAX_REFS:
+        where.fail((*here, "refs"), f"more than {MAX_REFS} refs in one role")
+    refs, seen = tuple(r.strip() for r in refs), set()
+    for ref in refs:
+        if re.search(r"[\s,;]", ref):
+            where.fail((*here, "refs"), f"'{ref}': write each ref as its own text, e.g. [\"Q2\", \"Q3\"]")
+        if ref.upper() in seen:
+            where.fail((*here, "refs"), f"'{ref}' is listed twice")
+        seen.add(ref.upper())
+    is_pass = use in PASS_USES
+    for key in raw:
+        if key in FAMILY_KEYS[not is_pass]:
+            others = " and ".join(u for u in USES if (u in PASS_USES) != is_pass)
+            where.fail((*here, key), f"not used by {_a(use)} role; it is for {others} roles")
+    for key in REQUIRED[is_pass]:
+        if key not in raw:
+            where.missing(here, key, f" for {_a(use)} role")
+    values = {QUANTITIES[k][0]: _quantity(where, (*here, k), v, *QUANTITIES[k][1:])
+              for k, v in raw.items() if k in QUANTITIES}
+    qty = _count(where, (*here, "qty"), raw["qty"], MAX_QTY) if "qty" in raw else None
+    return Role(name=name.strip(), refs=refs, use=use, qty=qty, **values)
+
+
+# -- public entry points -----------------------------------------------------------------------
+
+def load_requirements(path) -> Requirements:
+    """Read and check a requirement file; every problem is a RequirementError."""
+    source = str(path)
+    try:
+        with open(path, "rb") as fh:
+            data = fh.read(MAX_FILE_BYTES + 1)
+    except FileNotFoundError:
+        raise RequirementError("no such file", file=source) from None
+    except IsADirectoryError:
+        raise RequirementError("is a folder, not a requirement file", file=source) from None
+    except OSError as err:
+        raise RequirementError(f"cannot be read ({err.strerror or err})", file=source) from None
+    if len(data) > MAX_FILE_BYTES:
+        raise RequirementError(f"over {MAX_FILE_BYTES:,} bytes: too large for a requirement file", file=source)
+    try:
+        text = data.decode("utf-8-sig")  # a byte-order mark, as some editors write, is fine
+    except UnicodeDecodeError as err:
+        raise RequirementError(f"not UTF-8 text (byte 0x{data[err.start]:02x}); save the file as UTF-8",
+                               file=source, line=data[:err.start].count(b"\n") + 1) from None
+    return parse_requirements(text, source)
+
+
+_TOML_AT = re.compile(r"\s*\((?:at line (\d+), column (\d+)|at end of document)\)$")
+_TOML_TIPS = {"Expected newline or end of document after a statement":
+              'unexpected text after a value (quote values with units: min = "3.0 V")',
+              "Cannot overwrite a value": "a key is given twice"}
+
+
+def parse_requirements(text: str, source: str) -> Requirements:
+    """Check the text of a requirement file; `source` names it in messages."""
+    text = text.removeprefix("\ufeff")
+    if len(text.encode("utf-8", "surrogatepass")) > MAX_FILE_BYTES:
+        raise RequirementError(f"over {MAX_FILE_BYTES:,} bytes: too large for a requirement file", file=source)
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        m = _TOML_AT.search(str(err))
+        line, column = (int(m[1]), int(m[2])) if m and m[1] else (len(text.rstrip("\n").split("\n")), None)
+        message = _TOML_AT.sub("", str(err))
+        message = _TOML_TIPS.get(message, message[:1].lower() + message[1:])
+        raise RequirementError(f"not valid TOML: {message}", file=source, line=line, column=column) from None
+    except RecursionError:
+        raise RequirementError("not valid TOML: nested too deeply", file=source) from None
+    return _build(doc, _FileWhere(source, text, doc), source)
+
+
+def _doc_of(req: Requirements) -> dict:
+    """A Requirements as the document it could have been read from (plain SI numbers)."""
+    def role(r: Role) -> dict:
+        raw = {"name": r.name, "refs": list(r.refs), "use": r.use, "qty": r.qty}
+        for key in ("max_off_current",) + FAMILY_KEYS[r.is_pass_switch]:
+            field, _, rule, _ = QUANTITIES[key]
+            raw[key] = "supply" if rule == "drive" and getattr(r, field) is None else getattr(r, field)
+        return {k: v for k, v in raw.items() if v is not None}
+
+    s, a, m = req.supply, req.ambient, req.margins
+    return {"supply": {k: v for k, v in (("min", s.min_V), ("max", s.max_V), ("capacity", s.capacity_Ah))
+                       if v is not None},
+            "ambient": {"min": a.min_C, "max": a.max_C}, "build": {"volume": req.volume},
+            "margins": {"derate_v": m.derate_v, "derate_i": m.derate_i, "tj_margin": m.tj_margin_C},
+            "role": [role(r) for r in req.roles]}
+
+
+def assumed(options: dict[str, str | None]) -> list[str]:
+    """The defaults a quick question (no base) fills in, for the CLI to print."""
+    notes = {"supply": f"supply {QUICK_SUPPLY_V[0]}..{QUICK_SUPPLY_V[1]} V (one lithium-ion cell)",
+             "ambient": f"ambient {QUICK_AMBIENT_C[0]:g}..{QUICK_AMBIENT_C[1]:g} °C",
+             "volume": f"volume {QUICK_VOLUME} boards"}
+    return [note for key, note in notes.items() if options.get(key) is None]
+
+
+def from_options(options: dict[str, str | None], base: Requirements | None = None,
+                 role: str | None = None) -> Requirements:
+    """Requirements from command-line options (values as typed, None when not given).
+
+    Without `base`: one role, with the defaults of the module docstring; --use is
+    required, and `role` (if given) names the role. With `base`: a copy of it, the
+    given values overriding; role fields go to the role named `role`, or to the only
+    role. A new --use of the other family drops the role's old family's values.
+    """
+    if set(options) - set(OPTION_KEYS):
+        raise ValueError(f"from_options: unknown option keys {sorted(set(options) - set(OPTION_KEYS))}")
+    given = {k: v for k, v in options.items() if v is not None}
+    index = 0
+    if base is None:
+        if "use" not in given:
+            raise RequirementError(f"--use is required: one of {', '.join(USES)}")
+        doc = {"supply": dict(zip(("min", "max"), QUICK_SUPPLY_V)), "build": {"volume": QUICK_VOLUME},
+               "ambient": dict(zip(("min", "max"), QUICK_AMBIENT_C)),
+               "role": [{"name": role or given["use"], "refs": list(QUICK_REFS)}]}
+    else:
+        doc, names = _doc_of(base), [r.name for r in base.roles]
+        role_options = [k for k in given if OPTION_KEYS[k][0] == "role"]
+        if role is not None:
+            try:
+                index = names.index(base.role(role).name)
+            except RequirementError as err:
+                raise RequirementError(f"--role: {err.message}") from None
+        elif role_options and len(names) > 1:
+            raise RequirementError(f"--{role_options[0].replace('_', '-')}: the requirements have {len(names)} "
+                                   f"roles; say which with --role ({', '.join(names[:20])})")
+        old = doc["role"][index]
+        if given.get("use") in USES and (given["use"] in PASS_USES) != (old["use"] in PASS_USES):
+            for key in FAMILY_KEYS[old["use"] in PASS_USES]:
+                old.pop(key, None)
+    for key, text in given.items():
+        table, name = OPTION_KEYS[key]
+        if name is None:
+            try:
+                doc[table]["min"], doc[table]["max"] = parse_range(text, "V" if table == "supply" else "degC")
+            except QuantityError as err:
+                raise RequirementError(f"--{table}: {err.message}") from None
+        elif table == "role":
+            doc["role"][index][name] = [r for r in re.split(r"[,\s]+", text) if r] if name == "refs" else text
+        else:
+            doc.setdefault(table, {})[name] = text
+    return _build(doc, _OptionWhere(doc), base.source if base else "command line")
