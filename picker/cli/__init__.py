@@ -37,7 +37,7 @@ catalog_app = typer.Typer(help="Check, browse and update the parts catalogue.",
                           no_args_is_help=True)
 app.add_typer(catalog_app, name="catalog")
 
-from picker.cli import catalog_cmd  # noqa: E402,F401  (registers the commands)
+from picker.cli import catalog_cmd, choose_cmd  # noqa: E402,F401  (registers the commands)
 
 
 def main() -> None:

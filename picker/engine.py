@@ -1,0 +1,360 @@
+"""The engine: every catalogue part of a role's kind, evaluated at the corners.
+
+For a role it takes the catalogue rows of the right kind, runs the models of
+`picker.models` over all of them at once (models.md §5-§7), decides each check
+(`pass`, `fail`, `unknown`), ranks the candidates (models.md §8) and totals the
+design (§9). The result is a DataFrame per role in rank order; the JSON of the
+interface specification, the reasons a part fails and the notes are built from
+it on demand, for the rows that are shown.
+
+Check outcomes are stored as small integers while evaluating 10⁵-10⁶ parts:
+PASS = 1, FAIL = 0, UNKNOWN = -1.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from picker.catalog import points, values
+from picker.models import bipolar, leakage, mosfet, pricing, thermal
+from picker.requirements import Requirements, Role
+
+PASS, FAIL, UNKNOWN = 1, 0, -1
+OUTCOME = {PASS: "pass", FAIL: "fail", UNKNOWN: "unknown"}
+GATE_HEADROOM_V = 0.1  # models.md §6: vgs must exceed Vt(Ta) by this much
+HOURS_PER_YEAR = 8766.0  # 365.25 days
+
+PASS_SWITCH_CHECKS = ("gate_drive", "drop", "tj", "off_current", "vds_rating", "vgs_rating",
+                      "id_rating")
+SWITCH_CHECKS = ("saturation", "vce_sat", "off_current", "vceo_rating", "ic_rating")
+PASS_SWITCH_FIGURES = ("vgs_V", "rds_on_ohm", "drop_V", "loss_W", "tj_C", "off_current_A", "corner")
+SWITCH_FIGURES = ("ib_A", "hfe", "vce_sat_V", "off_current_A")
+NOTE_FLAGS = {  # flag column -> note text
+    "extrapolated": "extrapolated",
+    "below_first_break": "below first break",
+    "not_guaranteed": "not guaranteed",
+    "no_price": "no price",
+    "eol": "eol",
+    "nrnd": "nrnd",
+}
+
+
+def _check(ok: np.ndarray, known: np.ndarray) -> np.ndarray:
+    """Outcome codes from a boolean test and where its inputs are known."""
+    return np.where(known, np.where(ok, PASS, FAIL), UNKNOWN).astype(np.int8)
+
+
+def _limit_check(value: np.ndarray, limit: float, *, at_least: bool = False) -> np.ndarray:
+    """value <= limit (or >= with at_least); unknown where value is NaN."""
+    with np.errstate(invalid="ignore"):
+        ok = value >= limit if at_least else value <= limit
+    return _check(ok, np.isfinite(value))
+
+
+@dataclass
+class RoleResult:
+    """One role's candidates, best first, and its choice."""
+
+    role: Role
+    table: pd.DataFrame  # one row per candidate, rank order (see evaluate_role)
+    checks: tuple[str, ...]
+    figures: tuple[str, ...]
+
+    @property
+    def choice(self) -> pd.Series | None:
+        """The first feasible candidate with a price (models.md §8), or None."""
+        priced = self.table[self.table["feasible"] & np.isfinite(self.table["cost"])]
+        return None if priced.empty else priced.iloc[0]
+
+    @property
+    def feasible(self) -> pd.DataFrame:
+        return self.table[self.table["feasible"]]
+
+    @property
+    def rejected(self) -> pd.DataFrame:
+        return self.table[~self.table["feasible"]]
+
+
+@dataclass
+class DesignResult:
+    requirements: Requirements
+    roles: list[RoleResult]
+    cost_per_board: float = np.nan
+    off_current_A: float = np.nan
+    drain_per_year_pct: float | None = None
+    missing: list[str] = field(default_factory=list)  # roles with no choice
+
+
+# -- evaluation --------------------------------------------------------------
+
+def evaluate(catalog_df: pd.DataFrame, req: Requirements) -> DesignResult:
+    """Evaluate every role of `req` over the catalogue and total the design."""
+    roles = [evaluate_role(catalog_df, role, req) for role in req.roles]
+    return design_totals(req, roles)
+
+
+def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> RoleResult:
+    """All catalogue parts of the role's kind: figures, checks, notes, rank."""
+    parts = catalog_df[catalog_df["kind"] == role.kind]
+    if role.is_pass_switch:
+        out, checks, figures = pass_switch(parts, role, req), PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES
+    else:
+        out, checks, figures = saturated_switch(parts, role, req), SWITCH_CHECKS, SWITCH_FIGURES
+        if role.max_vce_sat_V is None:
+            checks = tuple(c for c in checks if c != "vce_sat")
+    if role.max_off_current_A is None:
+        checks = tuple(c for c in checks if c != "off_current")
+    _price(out, parts, role, req)
+    codes = np.column_stack([out[f"check_{c}"].to_numpy() for c in checks]) if len(out) else \
+        np.zeros((0, len(checks)), dtype=np.int8)
+    out["feasible"] = (codes == PASS).all(axis=1)
+    out["n_fail"] = (codes == FAIL).sum(axis=1)
+    out["n_unknown"] = (codes == UNKNOWN).sum(axis=1)
+    return RoleResult(role, rank(out, role), checks, figures)
+
+
+def _identity(parts: pd.DataFrame) -> pd.DataFrame:
+    """The descriptive columns every candidate row carries."""
+    out = pd.DataFrame(index=parts.index)
+    for name in ("part", "maker", "package"):
+        out[name] = parts[name] if name in parts else ""
+    out["preferred"] = parts["preferred"].to_numpy(dtype=bool)
+    out["status"] = parts["status"].to_numpy()
+    out["eol"] = out["status"] == "eol"
+    out["nrnd"] = out["status"] == "nrnd"
+    return out
+
+
+def pass_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFrame:
+    """models.md §6, high-side-pmos and low-side-nmos, at both corners (§5)."""
+    out = _identity(parts)
+    load_A = role.load_A
+    vt25_V = values(parts, "vgs_th_max_V")
+    drives_V, rds_mohm = points(parts, "rds_on_mohm")
+    fit = mosfet.fit_on_resistance(drives_V, rds_mohm / 1000.0, vt25_V)
+    k_vt = np.abs(values(parts, "vgs_th_tc_mV/C")) / 1000.0  # NaN: the model's default
+    a = values(parts, "rds_tc_pct/C") / 100.0
+    rth = values(parts, "rth_ja_C/W")
+    drive_V = req.supply.min_V if role.gate_drive_V is None else role.gate_drive_V
+    vgs_V = drive_V - role.gate_drive_drop_V
+
+    def resistance_at(t_C):
+        return mosfet.on_resistance(vgs_V, t_C, fit.r_fix_ohm, fit.k_ohm_V, vt25_V, k_vt, a)
+
+    corners = {}
+    for corner, ta_C in (("cold", req.ambient.min_C), ("hot", req.ambient.max_C)):
+        vt_V = mosfet.threshold_at(vt25_V, ta_C, k_vt)
+        tj_C, converged = thermal.solve_junction_temperature(ta_C, load_A, rth, resistance_at)
+        tj_C = np.broadcast_to(tj_C, vt25_V.shape)
+        rds = resistance_at(tj_C)
+        corners[corner] = dict(vt_V=vt_V, gate_ok=vgs_V >= vt_V + GATE_HEADROOM_V, tj_C=tj_C,
+                               converged=np.broadcast_to(converged, vt25_V.shape), rds=rds)
+    cold, hot = corners["cold"], corners["hot"]
+
+    gate_known = np.isfinite(vt25_V)
+    gate_ok = cold["gate_ok"] & hot["gate_ok"]
+    out["check_gate_drive"] = _check(gate_ok, gate_known)
+    on = gate_known & gate_ok  # where the gate check fails, on-state figures are null
+    out["vgs_V"] = vgs_V
+    out["vt_cold_V"] = cold["vt_V"]
+    out["gate_margin_V"] = vgs_V - (np.maximum(cold["vt_V"], hot["vt_V"]) + GATE_HEADROOM_V)
+
+    hot_worse = np.nan_to_num(hot["rds"], nan=-np.inf) > np.nan_to_num(cold["rds"], nan=-np.inf)
+    rds = np.where(on, np.fmax(cold["rds"], hot["rds"]), np.nan)
+    out["rds_on_ohm"] = rds
+    out["drop_V"] = load_A * rds
+    out["drop_cold_V"] = np.where(on, load_A * cold["rds"], np.nan)
+    out["drop_hot_V"] = np.where(on, load_A * hot["rds"], np.nan)
+    out["loss_W"] = load_A ** 2 * rds
+    out["corner"] = np.where(np.isfinite(rds), np.where(hot_worse, "hot", "cold"), None)
+    out["check_drop"] = _limit_check(out["drop_V"].to_numpy(), role.max_drop_V)
+
+    # Junction temperature: the worse corner (the hot one, as Ta is higher).
+    tj_C = np.where(on, np.fmax(cold["tj_C"], hot["tj_C"]), np.nan)
+    has_rth = np.isfinite(rth)
+    out["tj_C"] = np.where(has_rth, tj_C, np.nan)
+    settled = cold["converged"] & hot["converged"]
+    tj_limit_C = _tj_limit(values(parts, "tj_max_C"), role.max_tj_C, req.margins.tj_margin_C)
+    out["tj_limit_C"] = tj_limit_C
+    with np.errstate(invalid="ignore"):
+        tj_ok = settled & (tj_C <= tj_limit_C)
+    known = has_rth & np.isfinite(tj_limit_C) & on & np.isfinite(fit.k_ohm_V)
+    out["check_tj"] = _check(tj_ok, known)
+    out["extrapolated"] = on & mosfet.extrapolated(vgs_V, fit.lowest_drive_V)
+
+    idss_A = values(parts, "idss_uA") * 1e-6
+    out["off_current_A"] = leakage.leakage_at(idss_A, req.ambient.max_C,
+                                              values(parts, "idss_hot_uA") * 1e-6,
+                                              values(parts, "idss_hot_C"))
+    if role.max_off_current_A is not None:
+        out["check_off_current"] = _limit_check(out["off_current_A"].to_numpy(),
+                                                role.max_off_current_A)
+    derate_v, derate_i = req.margins.derate_v, req.margins.derate_i
+    # The gate swings the whole rail when it turns on (models.md §6); a gate
+    # drive above the rail swings that much instead.
+    gate_swing_V = max(req.supply.max_V, role.gate_drive_V or 0.0)
+    for name in ("vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "rth_ja_C/W", "tj_max_C"):
+        out[name] = values(parts, name)
+    out["gate_swing_V"] = gate_swing_V
+    out["settled"] = settled
+    out["check_vds_rating"] = _limit_check(values(parts, "vds_max_V") * derate_v,
+                                           req.supply.max_V, at_least=True)
+    out["check_vgs_rating"] = _limit_check(values(parts, "vgs_max_V") * derate_v,
+                                           gate_swing_V, at_least=True)
+    out["check_id_rating"] = _limit_check(values(parts, "id_max_A") * derate_i, load_A,
+                                          at_least=True)
+    return out
+
+
+def _tj_limit(tj_max_C: np.ndarray, role_max_C: float | None, margin_C: float) -> np.ndarray:
+    """min(role max_tj, tj_max_C - margin), either alone where the other is unknown."""
+    part_limit = tj_max_C - margin_C
+    if role_max_C is None:
+        return part_limit
+    return np.fmin(part_limit, role_max_C)
+
+
+def saturated_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFrame:
+    """models.md §6, npn-switch and pnp-switch: saturation at the cold corner."""
+    out = _identity(parts)
+    ic_A = role.collector_current_A
+    cold_C = req.ambient.min_C
+    drive_V = req.supply.min_V if role.base_drive_V is None else role.base_drive_V
+    vbe_V = bipolar.vbe_at(values(parts, "vbe_on_V"), cold_C)
+    ib_A = bipolar.base_current(drive_V, vbe_V, role.base_resistor_ohm)
+    ic_points_mA, hfe_points = points(parts, "hfe_min")
+    hfe25, below_points = bipolar.hfe_at_current(ic_points_mA / 1000.0, hfe_points, ic_A)
+    hfe = bipolar.hfe_at_temperature(hfe25, cold_C)
+    out["vbe_cold_V"] = vbe_V
+    out["ib_A"] = ib_A
+    out["hfe"] = hfe
+    overdrive = bipolar.saturation_overdrive(ib_A, hfe, ic_A)
+    out["overdrive"] = overdrive
+    out["check_saturation"] = _limit_check(overdrive, role.overdrive, at_least=True)
+    out["extrapolated"] = below_points
+
+    sat_points_mA, sat_mV = points(parts, "vce_sat_mV")
+    vce_sat_V = bipolar.vce_sat_at_current(sat_points_mA / 1000.0, sat_mV / 1000.0, ic_A)
+    gain = bipolar.forced_gain(ic_A, ib_A)
+    guaranteed = bipolar.vce_sat_guaranteed(ic_A, ib_A)
+    out["vce_sat_V"] = vce_sat_V
+    out["forced_gain"] = gain
+    out["not_guaranteed"] = np.isfinite(vce_sat_V) & ~guaranteed
+    if role.max_vce_sat_V is not None:
+        with np.errstate(invalid="ignore"):
+            ok = vce_sat_V <= role.max_vce_sat_V
+        out["check_vce_sat"] = _check(ok, np.isfinite(vce_sat_V) & guaranteed)
+
+    icbo_A = values(parts, "icbo_nA") * 1e-9
+    out["off_current_A"] = leakage.leakage_at(icbo_A, req.ambient.max_C,
+                                              values(parts, "icbo_hot_nA") * 1e-9,
+                                              values(parts, "icbo_hot_C"))
+    if role.max_off_current_A is not None:
+        out["check_off_current"] = _limit_check(out["off_current_A"].to_numpy(),
+                                                role.max_off_current_A)
+    for name in ("vceo_max_V", "ic_max_A", "icbo_nA"):
+        out[name] = values(parts, name)
+    out["check_vceo_rating"] = _limit_check(values(parts, "vceo_max_V") * req.margins.derate_v,
+                                            req.supply.max_V, at_least=True)
+    out["check_ic_rating"] = _limit_check(values(parts, "ic_max_A") * req.margins.derate_i,
+                                          ic_A, at_least=True)
+    return out
+
+
+def _price(out: pd.DataFrame, parts: pd.DataFrame, role: Role, req: Requirements) -> None:
+    """models.md §7: unit price at the quantity bought, cost per board."""
+    breaks, prices = points(parts, "price")
+    quantity = req.volume * role.parts_per_board
+    unit, below = pricing.unit_price_at(breaks, prices, quantity)
+    out["quantity"] = quantity
+    out["unit_price"] = unit
+    out["cost"] = unit * role.parts_per_board
+    out["below_first_break"] = below
+    out["no_price"] = ~np.isfinite(unit)
+
+
+def rank(out: pd.DataFrame, role: Role) -> pd.DataFrame:
+    """models.md §8: feasible by cost, then preferred first, then drop (or
+    Vce(sat)); then feasible parts with no price; then the rest, fewest failed
+    checks first. Remaining ties: cost, then part number, for a stable order."""
+    if out.empty:
+        return out.assign(rank=np.zeros(0, dtype=int))
+    feasible = out["feasible"].to_numpy()
+    priced = np.isfinite(out["cost"].to_numpy())
+    group = np.where(feasible & priced, 0, np.where(feasible, 1, 2))
+    figure = out["drop_V" if role.is_pass_switch else "vce_sat_V"].to_numpy(dtype=float)
+    cost = np.nan_to_num(out["cost"].to_numpy(dtype=float), nan=np.inf)
+    n_fail = np.where(group == 2, out["n_fail"].to_numpy(), 0)
+    order = np.lexsort((
+        out["part"].astype(str).to_numpy(),
+        np.nan_to_num(figure, nan=np.inf),
+        ~out["preferred"].to_numpy(dtype=bool),
+        cost,
+        n_fail,
+        group,
+    ))
+    ranked = out.iloc[order].copy()
+    ranked["rank"] = np.arange(1, len(ranked) + 1)
+    return ranked
+
+
+def design_totals(req: Requirements, roles: list[RoleResult]) -> DesignResult:
+    """models.md §9: cost per board, total off-state current, drain per year."""
+    result = DesignResult(req, roles)
+    cost, off = 0.0, 0.0
+    for r in roles:
+        choice = r.choice
+        if choice is None:
+            result.missing.append(r.role.name)
+            continue
+        cost += float(choice["cost"])
+        off += float(choice["off_current_A"]) * r.role.parts_per_board
+    result.cost_per_board = cost
+    result.off_current_A = off
+    if req.supply.capacity_Ah:
+        result.drain_per_year_pct = off * HOURS_PER_YEAR / req.supply.capacity_Ah * 100.0
+    return result
+
+
+# -- presenting one candidate --------------------------------------------------
+
+def notes(row: pd.Series) -> list[str]:
+    return [text for flag, text in NOTE_FLAGS.items() if bool(row.get(flag, False))]
+
+
+def candidate_json(row: pd.Series, result: RoleResult) -> dict:
+    """One candidate as the interface specification writes it."""
+    figures = {name: row.get(name) for name in result.figures}
+    return {
+        "part": row["part"], "maker": row["maker"], "package": row["package"],
+        "feasible": bool(row["feasible"]),
+        "unit_price": row["unit_price"], "cost": row["cost"],
+        "figures": figures,
+        "checks": {c: OUTCOME[int(row[f"check_{c}"])] for c in result.checks},
+        "notes": notes(row),
+    }
+
+
+def design_json(design: DesignResult, *, limit: int | None = None) -> dict:
+    """The whole answer in the JSON of the interface specification."""
+    from picker.render import clean
+
+    roles = []
+    for r in design.roles:
+        table = r.table if limit is None else r.table.head(limit)
+        choice = r.choice
+        roles.append({
+            "name": r.role.name, "use": r.role.use, "refs": list(r.role.refs),
+            "choice": None if choice is None else choice["part"],
+            "candidates": [candidate_json(row, r) for _, row in table.iterrows()],
+        })
+    return clean({
+        "volume": design.requirements.volume,
+        "roles": roles,
+        "cost_per_board": design.cost_per_board,
+        "off_current_A": design.off_current_A,
+        "drain_per_year_pct": design.drain_per_year_pct,
+    })
