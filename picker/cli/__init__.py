@@ -37,7 +37,9 @@ catalog_app = typer.Typer(help="Check, browse and update the parts catalogue.",
                           no_args_is_help=True)
 app.add_typer(catalog_app, name="catalog")
 
-from picker.cli import catalog_cmd, choose_cmd  # noqa: E402,F401  (registers the commands)
+# Each module registers its commands on import: one line per module.
+from picker.cli import catalog_cmd  # noqa: E402,F401
+from picker.cli import choose_cmd  # noqa: E402,F401
 
 
 def main() -> None:
