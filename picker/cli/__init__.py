@@ -31,10 +31,11 @@ app = typer.Typer(
     no_args_is_help=True,
     add_completion=False,
     pretty_exceptions_enable=False,
+    rich_markup_mode=None,  # plain help: start-up does not pay for rich's help renderer
     context_settings={"help_option_names": ["-h", "--help"]},
 )
 catalog_app = typer.Typer(help="Check, browse and update the parts catalogue.",
-                          no_args_is_help=True)
+                          no_args_is_help=True, rich_markup_mode=None)
 app.add_typer(catalog_app, name="catalog")
 
 # Each module registers its commands on import: one line per module.
