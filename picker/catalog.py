@@ -25,7 +25,7 @@ from picker.errors import CatalogError, QuantityError
 from picker.quantities import parse_quantity
 from picker.tabular import read_bytes, read_table
 
-UNKNOWN_MARKERS = {"", "-", "–", "—", "?", "n/a", "na", "none", "unknown", "tbd"}
+UNKNOWN_MARKERS = {"", "-", "–", "—", "?", "n/a", "na", "nan", "none", "unknown", "tbd"}
 YES = {"yes", "y", "true", "1", "x"}
 NO = {"no", "n", "false", "0", ""}
 
@@ -199,20 +199,28 @@ def _convert(table) -> Catalog:
                    delimiter=table.delimiter, error_lines=error_lines)
 
 
-def _numbers(cells: list[str], unit: str, decimal_comma: bool) -> tuple[np.ndarray, list]:
+def _numbers(cells, unit: str, decimal_comma: bool) -> tuple[np.ndarray, list]:
     """Parse a column of cells to floats in `unit`: the plain numbers in one
-    vectorised pass, the rest (units, IEC codes) one by one. Unknown -> NaN."""
-    s = pd.Series(cells, dtype=object)
-    lower = s.str.lower()
-    blank = lower.isin(UNKNOWN_MARKERS).to_numpy()
-    text = s.str.replace(",", ".", regex=False) if decimal_comma else s
-    fast = pd.to_numeric(text.where(~blank, "nan"), errors="coerce").to_numpy(dtype=float)
-    slow = ~blank & ~np.isfinite(fast)
-    values = np.where(blank, np.nan, fast)
+    vectorised pass, the rest (units, IEC codes, unknown markers) one by one
+    through parse_quantity. Unknown -> NaN."""
+    text = np.asarray(cells, dtype=object)
+    if decimal_comma:
+        text = np.asarray(pd.Series(text, dtype=object).str.replace(",", ".", regex=False),
+                          dtype=object)
+    values = np.full(len(text), np.nan)
+    filled = text != ""
+    try:
+        values[filled] = text[filled].astype(float)
+    except (ValueError, TypeError):  # some cells carry units or markers: coerce, then look closer
+        values[filled] = pd.to_numeric(pd.Series(text[filled]), errors="coerce").to_numpy(float)
     bad = []
-    for pos in np.flatnonzero(slow):
+    for pos in np.flatnonzero(filled & ~np.isfinite(values)):
+        cell = str(cells[pos])
+        if cell.strip().lower() in UNKNOWN_MARKERS:
+            values[pos] = np.nan
+            continue
         try:
-            values[pos] = parse_quantity(cells[pos], unit, decimal_comma=decimal_comma)
+            values[pos] = parse_quantity(cell, unit, decimal_comma=decimal_comma)
         except QuantityError as exc:
             values[pos] = np.nan
             bad.append((int(pos), exc.message))
@@ -221,44 +229,47 @@ def _numbers(cells: list[str], unit: str, decimal_comma: bool) -> tuple[np.ndarr
 
 def _normalise_text(df: pd.DataFrame, col_of: dict, error) -> None:
     """part, kind, status, preferred: checked and written in canonical form."""
-    positions = np.arange(len(df))
-    part = df["part"].astype(str)
-    for pos in positions[(part == "").to_numpy()]:
+    part = df["part"].to_numpy(dtype=object)
+    for pos in np.flatnonzero(part == ""):
         error(int(pos), col_of["part"], "the part number is missing", "part")
-    kind = df["kind"].astype(str).str.lower()
-    for pos in positions[(kind == "").to_numpy()]:
+    raw_kind = df["kind"].to_numpy(dtype=object)
+    kind = pd.Series(raw_kind, dtype=object).str.lower().to_numpy(dtype=object)
+    for pos in np.flatnonzero(kind == ""):
         error(int(pos), col_of["kind"], "the kind is missing; write pmos, nmos, npn or pnp", "kind")
-    unknown = (kind != "") & ~kind.isin(cols.KINDS)
-    for pos in positions[unknown.to_numpy()]:
-        error(int(pos), col_of["kind"], f"unknown kind '{df['kind'].iloc[pos]}'; "
+    known = np.isin(kind, cols.KINDS)
+    for pos in np.flatnonzero((kind != "") & ~known):
+        error(int(pos), col_of["kind"], f"unknown kind '{raw_kind[pos]}'; "
               "expected pmos, nmos, npn or pnp", "kind")
-    df["kind"] = kind.where(kind.isin(cols.KINDS), "")
+    df["kind"] = np.where(known, kind, "")
 
-    key = part.str.replace(r"\s+", "", regex=True).str.casefold()
-    first_line: dict[str, int] = {}
-    for pos, (k, line) in enumerate(zip(key, df.index)):
-        if not k:
-            continue
-        if k in first_line:
-            error(pos, col_of["part"], f"duplicate part '{part.iloc[pos]}': already on line "
-                  f"{first_line[k]} (case and spaces are ignored)", "part")
-        else:
-            first_line[k] = int(line)
+    key = pd.Series(part, dtype=object).str.replace(r"\s+", "", regex=True).str.casefold()
+    repeated = key.duplicated(keep=False).to_numpy() & (part != "")
+    if repeated.any():
+        first_line: dict[str, int] = {}
+        for pos in np.flatnonzero(repeated):
+            k = key.iloc[pos]
+            if k in first_line:
+                error(int(pos), col_of["part"], f"duplicate part '{part[pos]}': already on line "
+                      f"{first_line[k]} (case and spaces are ignored)", "part")
+            else:
+                first_line[k] = int(df.index[pos])
 
     if "status" in df:
-        status = df["status"].astype(str).str.lower().replace("", "active")
-        for pos in positions[~status.isin(cols.STATUSES).to_numpy()]:
-            error(int(pos), col_of["status"], f"unknown status '{df['status'].iloc[pos]}'; "
+        raw = df["status"].to_numpy(dtype=object)
+        status = pd.Series(raw, dtype=object).str.lower().replace("", "active").to_numpy(object)
+        for pos in np.flatnonzero(~np.isin(status, cols.STATUSES)):
+            error(int(pos), col_of["status"], f"unknown status '{raw[pos]}'; "
                   "expected active, nrnd or eol", "status")
         df["status"] = status
     else:
         df["status"] = "active"
     if "preferred" in df:
-        pref = df["preferred"].astype(str).str.lower()
-        for pos in positions[~pref.isin(YES | NO).to_numpy()]:
-            error(int(pos), col_of["preferred"], f"preferred is '{df['preferred'].iloc[pos]}'; "
+        raw = df["preferred"].to_numpy(dtype=object)
+        pref = pd.Series(raw, dtype=object).str.lower().to_numpy(dtype=object)
+        for pos in np.flatnonzero(~np.isin(pref, list(YES | NO))):
+            error(int(pos), col_of["preferred"], f"preferred is '{raw[pos]}'; "
                   "expected yes or no", "preferred")
-        df["preferred"] = pref.isin(YES)
+        df["preferred"] = np.isin(pref, list(YES))
     else:
         df["preferred"] = False
 
@@ -320,9 +331,9 @@ def _row_rules(df: pd.DataFrame, col_of: dict, error, warning) -> None:
     for pos in np.flatnonzero(no_thermal):
         warning(int(pos), col_of.get("rth_ja_C/W"), "no rth_ja_C/W: self-heating cannot be "
                 "checked for this MOSFET", "rth_ja_C/W")
+    part = df["part"].to_numpy(dtype=object)
     for pos in np.flatnonzero((df["status"] == "eol").to_numpy()):
-        warning(int(pos), col_of.get("status"), f"'{df['part'].iloc[pos]}' is end-of-life (eol)",
-                "status")
+        warning(int(pos), col_of.get("status"), f"'{part[pos]}' is end-of-life (eol)", "status")
 
 
 def _falling(df, points, col_of, warning, what: str, verb: str, *, rising_is_bad: bool,

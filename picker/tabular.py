@@ -32,7 +32,7 @@ class TextTable:
     delimiter: str
     header: list[str]
     header_line: int
-    columns: list[list[str]]  # cells by column position, one list per column
+    columns: list  # cells by column position: a list of str, or a numpy object array
     lines: list[int]  # file line on which each data row starts
     problems: list[tuple[int, int, str]]  # (line, column, message) for ragged rows
 
@@ -43,7 +43,8 @@ class TextTable:
 
     def cells(self, position: int) -> list[str]:
         """The cells of column `position` (0-based), one per data row."""
-        return self.columns[position]
+        column = self.columns[position]
+        return column if isinstance(column, list) else column.tolist()
 
 
 def read_bytes(path: str | os.PathLike, error: type[PickerError], what: str) -> bytes:
@@ -117,11 +118,70 @@ def read_table(path: str | os.PathLike, *, error: type[PickerError], what: str,
         raise error("the file contains a NUL byte; it is not a text CSV file "
                     "(export it again as CSV)", file=path, line=data[:at].count(b"\n") + 1)
     text, encoding = decode(data, path, error)
-    lines = text.splitlines()
-    first = next((i for i, ln in enumerate(lines) if ln.strip()), None)
-    if first is None:
+    first_line = next((ln for ln in text.splitlines() if ln.strip()), None)
+    if first_line is None:
         raise error(f"the {what} file is empty; it needs a header line", file=path)
-    delimiter = detect_delimiter(lines[first], known)
+    delimiter = detect_delimiter(first_line, known)
+    table = None
+    if len(data) > FAST_BYTES and encoding in ("utf-8", "utf-8-sig", "cp1252"):
+        table = _read_plain(data, text, delimiter)
+    if table is None:
+        table = _read_general(text, delimiter, path, error, what)
+    header, header_line, columns, row_lines, problems = table
+    if len(row_lines) > MAX_ROWS:
+        raise TooLarge(f"the {what} has more than {MAX_ROWS:,} rows; picker reads "
+                       "up to that many (split the file)", file=path)
+    return TextTable(path, encoding, delimiter, header, header_line, columns, row_lines, problems)
+
+
+FAST_BYTES = 1 << 20  # files above 1 MiB try the vectorised reader first
+
+
+def _read_plain(data: bytes, text: str, delimiter: str):
+    """The fast path for large, plain files: no quote character anywhere and
+    every non-blank line with the header's field count. Then lines can be found
+    with numpy and the cells split by pandas' C parser. None otherwise (the
+    general reader then handles quoting and reports ragged rows)."""
+    if b'"' in data or data.count(b"\r") != data.count(b"\r\n"):
+        return None
+    import numpy as np
+    import pandas as pd
+
+    codes = np.frombuffer(data, dtype=np.uint8)  # an ASCII-compatible encoding
+    ends = np.flatnonzero(codes == 10)
+    if len(ends) == 0 or ends[-1] != len(codes) - 1:
+        ends = np.append(ends, len(codes))
+    starts = np.concatenate(([0], ends[:-1] + 1))
+    at = np.flatnonzero(codes == ord(delimiter))
+    separators = np.searchsorted(at, ends) - np.searchsorted(at, starts)
+    returns = (ends > starts) & (codes[np.maximum(ends - 1, 0)] == 13)
+    blank = (ends - starts) - separators - returns <= 0  # nothing but separators
+    filled = np.flatnonzero(~blank)
+    if len(filled) < 2 or np.any(separators[filled] != separators[filled[0]]):
+        return None
+    frame = pd.read_csv(io.StringIO(text), sep=delimiter, header=None, dtype=object,
+                        keep_default_na=False, na_values=[], skip_blank_lines=True,
+                        quoting=csv.QUOTE_NONE, engine="c")
+    if len(frame) != len(filled):
+        return None
+    header = [str(h).strip() for h in frame.iloc[0]]
+    space = np.flatnonzero((codes == 32) | ((codes == 9) & (ord(delimiter) != 9)))
+    edges = np.array([ord(delimiter), 10, 13])
+    before = codes[np.maximum(space - 1, 0)]
+    after = codes[np.minimum(space + 1, len(codes) - 1)]
+    padded = bool(np.isin(before, edges).any() or np.isin(after, edges).any()
+                  or (len(space) and space[0] == 0))
+    columns = []
+    for i in range(frame.shape[1]):
+        column = frame.iloc[1:, i]
+        columns.append((column.str.strip() if padded else column).to_numpy(dtype=object))
+    lines = (filled + 1).tolist()
+    return header, lines[0], columns, lines[1:], []
+
+
+def _read_general(text: str, delimiter: str, path: str, error, what: str):
+    """Any file the csv module can read: quoted fields, embedded newlines,
+    ragged rows (reported, padded or cut), exact line numbers."""
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter, strict=False)
     header: list[str] | None = None
     header_line = 0
@@ -150,10 +210,9 @@ def read_table(path: str | os.PathLike, *, error: type[PickerError], what: str,
                 store.append(cell.strip())
             row_lines.append(start)
             if len(row_lines) > MAX_ROWS:
-                raise TooLarge(f"the {what} has more than {MAX_ROWS:,} rows; picker reads "
-                               "up to that many (split the file)", file=path)
+                break
     except csv.Error as exc:
         raise error(f"the CSV structure is broken: {exc}", file=path, line=reader.line_num) from None
     if header is None:  # only separators and spaces
         raise error(f"the {what} file has no header line (only empty fields)", file=path)
-    return TextTable(path, encoding, delimiter, header, header_line, columns, row_lines, problems)
+    return header, header_line, columns, row_lines, problems

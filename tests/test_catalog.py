@@ -231,3 +231,24 @@ def test_random_csv_like_text_gives_a_catalogue_or_our_error(tmp_path, rows, del
     except PickerError:
         return
     assert len(catalog.df) + len(catalog.error_lines) == catalog.rows_read
+
+
+@pytest.mark.parametrize("text_edit", [
+    lambda t: t,                                    # plain: the vectorised reader
+    lambda t: t.replace("\n", "\r\n"),              # CRLF line ends
+    lambda t: t.replace(",SOT-23,", ", SOT-23 ,"),  # cells padded with spaces
+    lambda t: t.replace("\n", "\n\n", 3),           # blank lines: line numbers move
+    lambda t: t.replace("Halvorsen", '"Halvorsen"'),  # quotes: the general reader
+])
+def test_vectorised_reader_gives_the_same_as_the_general_one(tmp_path, monkeypatch, text_edit):
+    """Large files take a vectorised path (no quotes, no ragged rows); it must
+    give exactly what the csv-module path gives, line numbers included."""
+    import picker.tabular as tabular
+
+    path = tmp_path / "cat.csv"
+    path.write_text(text_edit(DEMO.read_text(encoding="utf-8")), encoding="utf-8", newline="")
+    general = load_catalog(path, source="test")
+    monkeypatch.setattr(tabular, "FAST_BYTES", 0)
+    fast = load_catalog(path, source="test")
+    pd.testing.assert_frame_equal(fast.df, general.df)
+    assert fast.problems == general.problems
