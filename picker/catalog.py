@@ -26,6 +26,7 @@ from picker.quantities import parse_quantity
 from picker.tabular import read_bytes, read_table
 
 UNKNOWN_MARKERS = {"", "-", "–", "—", "?", "n/a", "na", "nan", "none", "unknown", "tbd"}
+KNOWN_HEADERS = set(cols._BY_LOWER) | {"rds_on_mohm", "price"}  # for separator detection
 YES = {"yes", "y", "true", "1", "x"}
 NO = {"no", "n", "false", "0", ""}
 
@@ -101,19 +102,46 @@ def resolve_catalog(option: str | os.PathLike | None) -> tuple[str, str]:
 # -- loading ------------------------------------------------------------------
 
 def load_catalog(path: str | os.PathLike | None = None, *, source: str | None = None,
-                 strict: bool = False, data: bytes | None = None) -> Catalog:
+                 strict: bool = False, data: bytes | None = None, cache: bool = True) -> Catalog:
     """Load and check a catalogue. Raises CatalogError when the file cannot be
-    read at all, or (strict) when any row has an error."""
+    read at all, or (strict) when any row has an error. A large catalogue read
+    from disk is parsed once and then served from the cache (picker.cache)
+    while its bytes stay the same; `cache=False` always parses."""
     if source is None:
         path, source = resolve_catalog(path)
     path = str(path)
+    stat = None
     if data is None:
+        try:
+            stat = os.stat(path)
+        except OSError:
+            stat = None
         data = read_bytes(path, CatalogError, "catalogue")
-    known = set(cols._BY_LOWER) | {"rds_on_mohm", "price"}
-    table = read_table(path, error=CatalogError, what="catalogue", known=known, data=data)
-    catalog = _convert(table)
-    catalog.source = source
-    catalog.fingerprint = hashlib.sha256(data).hexdigest()
+    fingerprint = hashlib.sha256(data).hexdigest()
+    catalog = None
+    if cache and stat is not None:
+        from picker import cache as store
+
+        hit = store.load(path, stat.st_size, stat.st_mtime_ns, fingerprint)
+        if hit is not None:
+            df, meta = hit
+            catalog = Catalog(df, [Problem(**p) for p in meta["problems"]], path, source,
+                              meta["rows_read"], fingerprint, meta["encoding"], meta["delimiter"],
+                              meta["error_lines"])
+    if catalog is None:
+        table = read_table(path, error=CatalogError, what="catalogue", known=KNOWN_HEADERS,
+                           data=data)
+        catalog = _convert(table)
+        catalog.source = source
+        catalog.fingerprint = fingerprint
+        if cache and stat is not None:
+            from picker import cache as store
+
+            meta = {"sha256": fingerprint, "rows_read": catalog.rows_read,
+                    "encoding": catalog.encoding, "delimiter": catalog.delimiter,
+                    "error_lines": catalog.error_lines,
+                    "problems": [p.__dict__ for p in catalog.problems]}
+            store.store(path, stat.st_size, stat.st_mtime_ns, catalog.df, meta)
     if strict and catalog.errors:
         first = catalog.errors[0]
         raise CatalogError(f"{first.message} ({len(catalog.errors)} error(s) in all; "

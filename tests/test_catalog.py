@@ -3,6 +3,7 @@ the exact line and column it names, and never a foreign exception."""
 
 import csv
 import io
+import os
 import re
 
 import numpy as np
@@ -252,3 +253,36 @@ def test_vectorised_reader_gives_the_same_as_the_general_one(tmp_path, monkeypat
     fast = load_catalog(path, source="test")
     pd.testing.assert_frame_equal(fast.df, general.df)
     assert fast.problems == general.problems
+
+
+def test_cache_serves_the_same_catalogue_and_never_a_stale_one(tmp_path, monkeypatch):
+    """A second load comes from the columnar cache and equals the parsed one;
+    a changed file or a corrupt cache entry is parsed again."""
+    pytest.importorskip("pyarrow")
+    from picker import cache
+
+    monkeypatch.setenv("PICKER_CACHE_DIR", str(tmp_path / "cache"))
+    monkeypatch.setattr(cache, "MIN_BYTES", 0)
+    path = tmp_path / "cat.csv"
+    path.write_text(DEMO.read_text(encoding="utf-8"), encoding="utf-8")
+    parsed = load_catalog(path, source="test")
+    entries = list((tmp_path / "cache").glob("catalog-*.feather"))
+    assert len(entries) == 1
+    calls = []
+    monkeypatch.setattr("picker.catalog._convert", lambda table: calls.append(1))
+    cached = load_catalog(path, source="test")
+    assert calls == []  # not parsed again
+    pd.testing.assert_frame_equal(cached.df, parsed.df)
+    assert cached.problems == parsed.problems and cached.rows_read == parsed.rows_read
+
+    monkeypatch.undo()
+    monkeypatch.setenv("PICKER_CACHE_DIR", str(tmp_path / "cache"))
+    monkeypatch.setattr(cache, "MIN_BYTES", 0)
+    entries[0].write_bytes(b"not a feather file")  # corrupt: rebuilt, not trusted
+    assert load_catalog(path, source="test").df.equals(parsed.df)
+    # Same path, size and modification time, other bytes: the content hash catches it.
+    stat = path.stat()
+    path.write_text(path.read_text().replace("HLP6125-T,", "HLP6125-X,"))
+    os.utime(path, ns=(stat.st_atime_ns, stat.st_mtime_ns))
+    assert path.stat().st_size == stat.st_size
+    assert "HLP6125-X" in load_catalog(path, source="test").df["part"].tolist()
