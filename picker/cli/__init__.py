@@ -41,6 +41,7 @@ app.add_typer(catalog_app, name="catalog")
 # Each module registers its commands on import: one line per module.
 from picker.cli import catalog_cmd  # noqa: E402,F401
 from picker.cli import choose_cmd  # noqa: E402,F401
+from picker.cli import import_cmd  # noqa: E402,F401
 
 
 def main() -> None:
