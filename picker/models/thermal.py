@@ -1,5 +1,7 @@
 """Self-heating: junction temperature of a conducting part (models.md §3)."""
 
+import inspect
+
 import numpy as np
 
 RUNAWAY_BOUND_C = 1000.0  # a junction past this is in thermal runaway: stop iterating
@@ -13,8 +15,10 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
     ``Tj = Ta + P theta_JA``, with ``P = I^2 R(Tj)`` (models.md §3).
 
     ta_C [°C] ambient, current_A [A] on-state current, rth_C_per_W [°C/W]
-    theta_JA: scalars or shape (n,). resistance_at(tj_C) -> rds_ohm [ohm]:
-    vectorised over parts, always called with the full (n,) array of Tj.
+    theta_JA: scalars or shape (n,). resistance_at(tj_C) -> rds_ohm [ohm] for
+    the full (n,) array of Tj; or resistance_at(tj_C, idx) -> rds_ohm for the
+    parts `idx` (an index array) only, which lets each step work on the parts
+    still moving (the engine's form: most parts settle in a few steps).
     tj_limit_C [°C]: the runaway bound, default RUNAWAY_BOUND_C; a part past
     it stops iterating and is not converged. It is not the ``tj`` check limit
     (the engine compares Tj with that), so pass a bound well above it.
@@ -37,20 +41,24 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
     no_rth = np.isnan(rth_C_per_W)
     tj_C = ta_C.copy()
     converged = no_rth.copy()
-    active = ~no_rth
+    idx = np.flatnonzero(~no_rth)  # the parts still moving
+    by_index = len(inspect.signature(resistance_at).parameters) >= 2
     with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
         for step in range(max_steps):
-            if not active.any():
+            if idx.size == 0:
                 break
-            rds_ohm = np.asarray(resistance_at(tj_C), dtype=float)
-            new_C = ta_C + current_A ** 2 * rds_ohm * rth_C_per_W
-            lost = active & ~np.isfinite(new_C)
+            if by_index:
+                rds_ohm = np.asarray(resistance_at(tj_C[idx], idx), dtype=float)
+            else:
+                rds_ohm = np.asarray(resistance_at(tj_C), dtype=float)[idx]
+            new_C = ta_C[idx] + current_A[idx] ** 2 * rds_ohm * rth_C_per_W[idx]
+            lost = ~np.isfinite(new_C)
             if step == 0:
-                tj_C = np.where(lost, np.nan, tj_C)  # R unknown from the start
-            active &= ~lost
-            step_C = np.abs(new_C - tj_C)
-            tj_C = np.where(active, new_C, tj_C)
-            settled = active & (step_C < tol_C)
-            converged |= settled
-            active &= ~settled & ~(tj_C > bound_C)
+                tj_C[idx[lost]] = np.nan  # R unknown from the start
+            step_C = np.abs(new_C - tj_C[idx])
+            keep = ~lost
+            tj_C[idx[keep]] = new_C[keep]
+            settled = keep & (step_C < tol_C)
+            converged[idx[settled]] = True
+            idx = idx[keep & ~settled & ~(new_C > bound_C)]
     return tj_C, converged
