@@ -18,7 +18,8 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from picker.catalog import points, values
+from picker.catalog import points as _catalog_points
+from picker.catalog import values
 from picker.models import bipolar, leakage, mosfet, pricing, thermal
 from picker.requirements import Requirements, Role
 
@@ -42,6 +43,17 @@ NOTE_FLAGS = {  # flag column -> note text
 }
 
 
+def points(parts: pd.DataFrame, prefix: str) -> tuple[np.ndarray, np.ndarray]:
+    """A point family as `picker.catalog.points` gives it, but never zero columns
+    wide: a catalogue without any such column (say, bipolar parts only, or no
+    prices) gets one all-blank column, so the models see "no point" (unknown)
+    instead of an empty array they cannot reduce."""
+    conditions, matrix = _catalog_points(parts, prefix)
+    if conditions.size == 0:
+        return np.array([np.nan]), np.full((len(parts), 1), np.nan)
+    return conditions, matrix
+
+
 def _check(ok: np.ndarray, known: np.ndarray) -> np.ndarray:
     """Outcome codes from a boolean test and where its inputs are known."""
     return np.where(known, np.where(ok, PASS, FAIL), UNKNOWN).astype(np.int8)
@@ -62,6 +74,7 @@ class RoleResult:
     table: pd.DataFrame  # one row per candidate, rank order (see evaluate_role)
     checks: tuple[str, ...]
     figures: tuple[str, ...]
+    parts: pd.DataFrame | None = None  # the catalogue rows evaluated (same index as table)
 
     @property
     def choice(self) -> pd.Series | None:
@@ -99,37 +112,52 @@ def evaluate(catalog_df: pd.DataFrame, req: Requirements) -> DesignResult:
 def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> RoleResult:
     """All catalogue parts of the role's kind: figures, checks, notes, rank."""
     parts = catalog_df[catalog_df["kind"] == role.kind]
+    # Columns are gathered in a dict and made a DataFrame once: inserting
+    # some 45 columns one by one costs more than all the models together.
     if role.is_pass_switch:
-        out, checks, figures = pass_switch(parts, role, req), PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES
+        out, checks, figures = _pass_switch_columns(parts, role, req), PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES
     else:
-        out, checks, figures = saturated_switch(parts, role, req), SWITCH_CHECKS, SWITCH_FIGURES
+        out, checks, figures = _saturated_switch_columns(parts, role, req), SWITCH_CHECKS, SWITCH_FIGURES
         if role.max_vce_sat_V is None:
             checks = tuple(c for c in checks if c != "vce_sat")
     if role.max_off_current_A is None:
         checks = tuple(c for c in checks if c != "off_current")
     _price(out, parts, role, req)
-    codes = np.column_stack([out[f"check_{c}"].to_numpy() for c in checks]) if len(out) else \
-        np.zeros((0, len(checks)), dtype=np.int8)
-    out["feasible"] = (codes == PASS).all(axis=1)
-    out["n_fail"] = (codes == FAIL).sum(axis=1)
-    out["n_unknown"] = (codes == UNKNOWN).sum(axis=1)
-    return RoleResult(role, rank(out, role), checks, figures)
+    # Column by column: a reduction along a short row axis is slow in numpy.
+    feasible = np.ones(len(parts), dtype=bool)
+    n_fail = np.zeros(len(parts), dtype=np.int64)
+    n_unknown = np.zeros(len(parts), dtype=np.int64)
+    for c in checks:
+        code = np.asarray(out[f"check_{c}"])
+        feasible &= code == PASS
+        n_fail += code == FAIL
+        n_unknown += code == UNKNOWN
+    out["feasible"] = feasible
+    out["n_fail"] = n_fail
+    out["n_unknown"] = n_unknown
+    table = pd.DataFrame(out, index=parts.index)
+    return RoleResult(role, rank(table, role), checks, figures, parts)
 
 
-def _identity(parts: pd.DataFrame) -> pd.DataFrame:
+def _identity(parts: pd.DataFrame) -> dict:
     """The descriptive columns every candidate row carries."""
-    out = pd.DataFrame(index=parts.index)
+    out: dict = {}
     for name in ("part", "maker", "package"):
         out[name] = parts[name] if name in parts else ""
     out["preferred"] = parts["preferred"].to_numpy(dtype=bool)
-    out["status"] = parts["status"].to_numpy()
-    out["eol"] = out["status"] == "eol"
-    out["nrnd"] = out["status"] == "nrnd"
+    out["status"] = parts["status"]
+    out["eol"] = (parts["status"] == "eol").to_numpy(dtype=bool)
+    out["nrnd"] = (parts["status"] == "nrnd").to_numpy(dtype=bool)
     return out
 
 
 def pass_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFrame:
-    """models.md §6, high-side-pmos and low-side-nmos, at both corners (§5)."""
+    """models.md §6, high-side-pmos and low-side-nmos, at both corners (§5):
+    one row per part (index of `parts`), no price, no rank."""
+    return pd.DataFrame(_pass_switch_columns(parts, role, req), index=parts.index)
+
+
+def _pass_switch_columns(parts: pd.DataFrame, role: Role, req: Requirements) -> dict:
     out = _identity(parts)
     load_A = role.load_A
     vt25_V = values(parts, "vgs_th_max_V")
@@ -141,11 +169,15 @@ def pass_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFr
     drive_V = req.supply.min_V if role.gate_drive_V is None else role.gate_drive_V
     vgs_V = drive_V - role.gate_drive_drop_V
 
-    def resistance_at(t_C):
-        return mosfet.on_resistance(vgs_V, t_C, fit.r_fix_ohm, fit.k_ohm_V, vt25_V, k_vt, a)
+    def resistance_of(rows, t_C):
+        # supply.min may also be one value per part (picker.headroom solves with that)
+        vg_V = vgs_V if np.ndim(vgs_V) == 0 else vgs_V[rows]
+        return mosfet.on_resistance(vg_V, t_C, fit.r_fix_ohm[rows], fit.k_ohm_V[rows],
+                                    vt25_V[rows], k_vt[rows], a[rows])
 
     corners = {}
     for corner, ta_C in (("cold", req.ambient.min_C), ("hot", req.ambient.max_C)):
+        resistance_at = _RecomputeMoved(resistance_of, len(parts))
         vt_V = mosfet.threshold_at(vt25_V, ta_C, k_vt)
         tj_C, converged = thermal.solve_junction_temperature(ta_C, load_A, rth, resistance_at)
         tj_C = np.broadcast_to(tj_C, vt25_V.shape)
@@ -170,7 +202,7 @@ def pass_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFr
     out["drop_hot_V"] = np.where(on, load_A * hot["rds"], np.nan)
     out["loss_W"] = load_A ** 2 * rds
     out["corner"] = np.where(np.isfinite(rds), np.where(hot_worse, "hot", "cold"), None)
-    out["check_drop"] = _limit_check(out["drop_V"].to_numpy(), role.max_drop_V)
+    out["check_drop"] = _limit_check(out["drop_V"], role.max_drop_V)
 
     # Junction temperature: the worse corner (the hot one, as Ta is higher).
     tj_C = np.where(on, np.fmax(cold["tj_C"], hot["tj_C"]), np.nan)
@@ -181,7 +213,9 @@ def pass_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFr
     out["tj_limit_C"] = tj_limit_C
     with np.errstate(invalid="ignore"):
         tj_ok = settled & (tj_C <= tj_limit_C)
-    known = has_rth & np.isfinite(tj_limit_C) & on & np.isfinite(fit.k_ohm_V)
+    # Runaway fails whatever the limit (models.md §3: "No convergence ... fails"),
+    # so it is decided even where neither limit is known.
+    known = has_rth & on & np.isfinite(fit.k_ohm_V) & (np.isfinite(tj_limit_C) | ~settled)
     out["check_tj"] = _check(tj_ok, known)
     out["extrapolated"] = on & mosfet.extrapolated(vgs_V, fit.lowest_drive_V)
 
@@ -190,7 +224,7 @@ def pass_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFr
                                               values(parts, "idss_hot_uA") * 1e-6,
                                               values(parts, "idss_hot_C"))
     if role.max_off_current_A is not None:
-        out["check_off_current"] = _limit_check(out["off_current_A"].to_numpy(),
+        out["check_off_current"] = _limit_check(out["off_current_A"],
                                                 role.max_off_current_A)
     derate_v, derate_i = req.margins.derate_v, req.margins.derate_i
     # The gate swings the whole rail when it turns on (models.md §6); a gate
@@ -209,6 +243,28 @@ def pass_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFr
     return out
 
 
+class _RecomputeMoved:
+    """R(Tj) for the thermal solver, recomputed only for the parts whose Tj moved
+    since the last call. The solver passes the whole Tj array at every step,
+    but most parts settle in a few steps while a few take dozens; the settled
+    ones keep their R. Values are the same as computing every part (the model
+    is elementwise); only the work shrinks."""
+
+    def __init__(self, resistance_of, n: int) -> None:
+        self.resistance_of = resistance_of  # (row indices, Tj of those rows) -> R
+        self.t_C = np.full(n, np.nan)
+        self.r_ohm = np.full(n, np.nan)
+
+    def __call__(self, t_C) -> np.ndarray:
+        t_C = np.broadcast_to(np.asarray(t_C, dtype=float), self.t_C.shape)
+        same = (t_C == self.t_C) | (np.isnan(t_C) & np.isnan(self.t_C))  # R(NaN) stays NaN
+        rows = np.flatnonzero(~same)
+        if rows.size:
+            self.r_ohm[rows] = self.resistance_of(rows, t_C[rows])
+            self.t_C[rows] = t_C[rows]
+        return self.r_ohm.copy()
+
+
 def _tj_limit(tj_max_C: np.ndarray, role_max_C: float | None, margin_C: float) -> np.ndarray:
     """min(role max_tj, tj_max_C - margin), either alone where the other is unknown."""
     part_limit = tj_max_C - margin_C
@@ -218,7 +274,12 @@ def _tj_limit(tj_max_C: np.ndarray, role_max_C: float | None, margin_C: float) -
 
 
 def saturated_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFrame:
-    """models.md §6, npn-switch and pnp-switch: saturation at the cold corner."""
+    """models.md §6, npn-switch and pnp-switch: saturation at the cold corner;
+    one row per part (index of `parts`), no price, no rank."""
+    return pd.DataFrame(_saturated_switch_columns(parts, role, req), index=parts.index)
+
+
+def _saturated_switch_columns(parts: pd.DataFrame, role: Role, req: Requirements) -> dict:
     out = _identity(parts)
     ic_A = role.collector_current_A
     cold_C = req.ambient.min_C
@@ -253,7 +314,7 @@ def saturated_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.D
                                               values(parts, "icbo_hot_nA") * 1e-9,
                                               values(parts, "icbo_hot_C"))
     if role.max_off_current_A is not None:
-        out["check_off_current"] = _limit_check(out["off_current_A"].to_numpy(),
+        out["check_off_current"] = _limit_check(out["off_current_A"],
                                                 role.max_off_current_A)
     for name in ("vceo_max_V", "ic_max_A", "icbo_nA"):
         out[name] = values(parts, name)
@@ -264,7 +325,7 @@ def saturated_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.D
     return out
 
 
-def _price(out: pd.DataFrame, parts: pd.DataFrame, role: Role, req: Requirements) -> None:
+def _price(out: dict, parts: pd.DataFrame, role: Role, req: Requirements) -> None:
     """models.md §7: unit price at the quantity bought, cost per board."""
     breaks, prices = points(parts, "price")
     quantity = req.volume * role.parts_per_board
@@ -279,7 +340,9 @@ def _price(out: pd.DataFrame, parts: pd.DataFrame, role: Role, req: Requirements
 def rank(out: pd.DataFrame, role: Role) -> pd.DataFrame:
     """models.md §8: feasible by cost, then preferred first, then drop (or
     Vce(sat)); then feasible parts with no price; then the rest, fewest failed
-    checks first. Remaining ties: cost, then part number, for a stable order."""
+    checks first. Remaining ties: cost, then part number, for a stable order.
+    Returns the rows in rank order with a `rank` column (1 = best); the column
+    is also added to `out` itself."""
     if out.empty:
         return out.assign(rank=np.zeros(0, dtype=int))
     feasible = out["feasible"].to_numpy()
@@ -287,18 +350,18 @@ def rank(out: pd.DataFrame, role: Role) -> pd.DataFrame:
     group = np.where(feasible & priced, 0, np.where(feasible, 1, 2))
     figure = out["drop_V" if role.is_pass_switch else "vce_sat_V"].to_numpy(dtype=float)
     cost = np.nan_to_num(out["cost"].to_numpy(dtype=float), nan=np.inf)
-    n_fail = np.where(group == 2, out["n_fail"].to_numpy(), 0)
+    n_fail = np.where(group == 2, out["n_fail"].to_numpy(), 0)  # < 100: a handful of checks
     order = np.lexsort((
         out["part"].astype(str).to_numpy(),
         np.nan_to_num(figure, nan=np.inf),
         ~out["preferred"].to_numpy(dtype=bool),
         cost,
-        n_fail,
-        group,
+        group * 100 + n_fail,  # group first, then fewest failures: one sort key, one pass
     ))
-    ranked = out.iloc[order].copy()
-    ranked["rank"] = np.arange(1, len(ranked) + 1)
-    return ranked
+    rank_of_row = np.empty(len(order), dtype=np.int64)
+    rank_of_row[order] = np.arange(1, len(order) + 1)
+    out["rank"] = rank_of_row  # set before the take: one reorder, no extra copy
+    return out.take(order)
 
 
 def design_totals(req: Requirements, roles: list[RoleResult]) -> DesignResult:

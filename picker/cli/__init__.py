@@ -38,10 +38,21 @@ catalog_app = typer.Typer(help="Check, browse and update the parts catalogue.",
                           no_args_is_help=True, rich_markup_mode=None)
 app.add_typer(catalog_app, name="catalog")
 
+
+@app.callback()
+def _everywhere(no_cache: bool = typer.Option(
+        False, "--no-cache", help="Parse the catalogue CSV again rather than use the cache of "
+        "large catalogues (also: PICKER_NO_CACHE=1).")) -> None:
+    from picker.cli import common
+
+    common.USE_CACHE = not (no_cache or os.environ.get("PICKER_NO_CACHE", "") not in ("", "0"))
+
+
 # Each module registers its commands on import: one line per module.
 from picker.cli import catalog_cmd  # noqa: E402,F401
 from picker.cli import choose_cmd  # noqa: E402,F401
 from picker.cli import import_cmd  # noqa: E402,F401
+from picker.cli import lineup_cmd  # noqa: E402,F401
 
 
 def main() -> None:
