@@ -140,6 +140,7 @@ def _pass_columns() -> list[Column]:
         Column("tj_margin_C", "Tj margin", numeric=True, digits=3),
         Column("off_current_A", "off current", unit="A"),
         Column("gate_margin_V", "gate margin", unit="V"),
+        Column("lowest_supply", "lowest supply"),
         Column("notes"),
     ]
 
@@ -151,17 +152,41 @@ def _switch_columns() -> list[Column]:
         Column("cost", "cost/board", numeric=True, digits=3),
         Column("ib_A", "Ib cold", unit="A"), Column("hfe", "hFE cold", numeric=True, digits=3),
         Column("overdrive", "overdrive", numeric=True, digits=3),
+        Column("lowest_supply", "lowest supply"),
         Column("vce_sat_V", "Vce(sat)", unit="V"), Column("off_current_A", "off current", unit="A"),
         Column("notes"),
     ]
 
 
-def _display_rows(table: pd.DataFrame, r: RoleResult) -> list[dict]:
+def _lowest_supply(table: pd.DataFrame, r: RoleResult, req) -> pd.DataFrame | None:
+    """headroom.lowest_supply for the rows shown (None without the catalogue rows)."""
+    if r.parts is None or table.empty:
+        return None
+    from picker import headroom
+
+    return headroom.lowest_supply(r.parts.loc[table.index], r.role, req)
+
+
+def _lowest_cell(low: pd.DataFrame | None, index) -> str | None:
+    """'2.911 V hot': the lowest working supply and the corner that sets it."""
+    if low is None:
+        return None
+    from picker import headroom
+
+    row = low.loc[index]
+    text = headroom.short(row)
+    found = row["lowest_supply_status"] == "found"
+    return f"{text} {row['lowest_supply_corner']}" if found else text
+
+
+def _display_rows(table: pd.DataFrame, r: RoleResult,
+                  low: pd.DataFrame | None = None) -> list[dict]:
     role = r.role
     rows = []
-    for _, row in table.iterrows():
+    for index, row in table.iterrows():
         d = row.to_dict()
         d["notes"] = notes(row)
+        d["lowest_supply"] = _lowest_cell(low, index)
         if role.is_pass_switch:
             d["drop_margin_V"] = role.max_drop_V - row["drop_V"]
             d["tj_margin_C"] = row["tj_limit_C"] - row["tj_C"]
@@ -184,20 +209,39 @@ def choose_report(design: DesignResult, *, top: int = 5, show_all: bool = False)
         elif len(r.feasible) > len(feasible):
             caption.append(f"{len(r.feasible) - len(feasible)} more feasible parts "
                            "(--top N or --all to see them)")
-        sections.append(Section(_role_heading(r, req), columns, _display_rows(feasible, r),
+        low = _lowest_supply(feasible, r, req)
+        sections.append(Section(_role_heading(r, req), columns, _display_rows(feasible, r, low),
                                 caption=caption))
         rejected = r.rejected.assign(_cost=r.rejected["cost"].fillna(np.inf))
         rejected = rejected.sort_values(["_cost", "part"], kind="stable")
         if not show_all:
             rejected = rejected.head(top)
+        low = _lowest_supply(rejected, r, req)
         rows = [{"part": row["part"], "package": row["package"], "cost": row["cost"],
-                 "why": "; ".join(reasons(row, r, req))} for _, row in rejected.iterrows()]
+                 "why": "; ".join(reasons(row, r, req) + _lowest_reason(low, index, r, req))}
+                for index, row in rejected.iterrows()]
         if rows:
             sections.append(Section(
                 f"  rejected {r.role.name}, cheapest first ({len(r.rejected)} in all)",
                 [Column("part"), Column("package"), Column("cost", "cost/board", numeric=True),
                  Column("why")], rows))
     return Report(sections, notes=summary_lines(design) + [""] + CAUTIONS)
+
+
+def _lowest_reason(low: pd.DataFrame | None, index, r: RoleResult, req) -> list[str]:
+    """For a part rejected on drive or drop: the supply it would need, where
+    one is found (e.g. 'would meet 60 mV from 3.42 V up, at 45 °C')."""
+    if low is None:
+        return []
+    from picker import headroom
+
+    row = low.loc[index]
+    if row["lowest_supply_status"] != "found" or row["lowest_supply_V"] <= req.supply.min_V:
+        return []
+    t_C = headroom.corner_temperature(req, row["lowest_supply_corner"])
+    what = (f"would meet {_v(r.role.max_drop_V, 'V')}" if r.role.is_pass_switch
+            else "would saturate")
+    return [f"{what} from {headroom.format_V(row['lowest_supply_V'])} up, at {t_C:g} °C"]
 
 
 def summary_lines(design: DesignResult) -> list[str]:

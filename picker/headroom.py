@@ -1,0 +1,302 @@
+"""The lowest working supply: how far down the cell each part still does its job.
+
+As a lithium-ion cell runs down, a switch whose gate (or base) is driven from
+the cell gets less drive: a MOSFET's on-resistance rises, a bipolar switch's
+base current falls. For each candidate this module finds the lowest supply
+voltage at which the part still passes the role's supply-dependent checks, at
+each ambient corner:
+
+- pass switches (high-side-pmos, low-side-nmos): `gate_drive`, `drop`, and
+  `tj` where it can be decided (models.md §6, §3);
+- saturated switches (npn-switch, pnp-switch): `saturation` (models.md §6).
+
+The figure is the engine's own answer, not a second model: each trial runs
+`engine.pass_switch` (or `engine.saturated_switch`) with the supply minimum
+replaced by one trial voltage per part and both ambient corners set to the
+corner being solved, so the fit, the temperature coefficients, self-heating
+and the gate-drive rule are exactly those `picker choose` uses.
+
+Method: vectorised bisection over every part at once. A part is first tried at
+the top of the search range (`SEARCH_TOP_FACTOR` x supply.max); the parts that
+work there are bisected between 0 V (nothing conducts) and that top until the
+bracket is narrower than `tol_V` (default 10 µV: 20 halvings of 8.4 V). The
+figure reported is the upper end of the final bracket: a voltage at which the
+engine says the part works, at most `tol_V` above one at which it does not.
+Bisection needs only that working is monotone in the supply (more supply,
+more drive, never less); it holds in the models of models.md, as the
+on-resistance falls and the base current rises with the drive at every
+temperature.
+
+What the figure means when the drive does not come from the cell: with a
+fixed `gate_drive` (or `base_drive`) voltage, nothing the models compute
+depends on the supply minimum, so a part either works at every supply (status
+`any`: the switch puts no lower limit on the cell; the load's own needs set
+it) or at none (status `never`). Both are reported without a voltage.
+
+Status per corner and overall (`lowest_supply_status`):
+
+- `found`: `lowest_supply_V` holds the voltage; `lowest_supply_limit` names
+  the check that fails just below it (`gate_drive`, `drop`, `tj`,
+  `saturation`);
+- `any`: fixed drive, and the part works;
+- `never`: the part fails at the top of the search range, or (fixed drive) at
+  any supply; `lowest_supply_limit` names the failing check;
+- `unknown`: the data to decide is missing (no threshold, no on-resistance
+  points, no gain points).
+
+The overall figure is the worse corner: the engine's checks at the supply
+minimum pass for every supply at or above it.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from typing import Callable
+
+import numpy as np
+import pandas as pd
+
+from picker import engine
+from picker.engine import FAIL, PASS, UNKNOWN
+from picker.requirements import Ambient, Requirements, Role
+
+TOL_V = 1e-5  # bisection stops when the bracket is narrower than this (10 µV)
+SEARCH_TOP_FACTOR = 2.0  # the search runs from 0 V up to this times supply.max
+STATUSES = ("found", "any", "never", "unknown")
+CORNERS = ("cold", "hot")
+
+
+def supply_driven(role: Role) -> bool:
+    """True where the role's drive comes from the cell ("supply")."""
+    return (role.gate_drive_V if role.is_pass_switch else role.base_drive_V) is None
+
+
+def search_top_V(req: Requirements) -> float:
+    return SEARCH_TOP_FACTOR * req.supply.max_V
+
+
+def corner_temperature(req: Requirements, corner: str) -> float:
+    return req.ambient.min_C if corner == "cold" else req.ambient.max_C
+
+
+def at_supply(parts: pd.DataFrame, role: Role, req: Requirements, supply_V,
+              ambient_C: float) -> pd.DataFrame:
+    """The engine's evaluation of `parts` with the supply minimum set to
+    `supply_V` [V] (a scalar, or one value per part) and both ambient corners
+    set to `ambient_C` [°C], so every figure is that corner's.
+
+    Rows keep the order and index of `parts`; the columns are those of
+    `engine.pass_switch` / `engine.saturated_switch` (no price, no rank).
+    Off-state figures come out at `ambient_C` too.
+    """
+    trial = dataclasses.replace(
+        req, supply=dataclasses.replace(req.supply, min_V=supply_V),
+        ambient=Ambient(ambient_C, ambient_C))
+    evaluate = engine.pass_switch if role.is_pass_switch else engine.saturated_switch
+    return evaluate(parts, role, trial)
+
+
+def verdict(table: pd.DataFrame, role: Role) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(works, limit, unknown) per row of an `at_supply` table.
+
+    works: the supply-dependent checks pass (pass switch: gate_drive and drop
+    pass and tj does not fail; switch: saturation passes). limit: the first of
+    those checks that does not pass ('' where all pass). unknown: the data to
+    decide is missing.
+    """
+    n = len(table)
+    if role.is_pass_switch:
+        gate = table["check_gate_drive"].to_numpy()
+        drop = table["check_drop"].to_numpy()
+        tj = table["check_tj"].to_numpy()
+        works = (gate == PASS) & (drop == PASS) & (tj != FAIL)
+        limit = np.where(gate != PASS, "gate_drive",
+                         np.where(drop != PASS, "drop", np.where(tj == FAIL, "tj", "")))
+        unknown = (gate == UNKNOWN) | ((gate == PASS) & (drop == UNKNOWN))
+    else:
+        sat = table["check_saturation"].to_numpy()
+        works = sat == PASS
+        limit = np.where(works, "", "saturation")
+        unknown = sat == UNKNOWN
+    return works.reshape(n), limit.astype(object).reshape(n), unknown.reshape(n)
+
+
+def solve_corner(parts: pd.DataFrame, role: Role, req: Requirements, corner: str, *,
+                 tol_V: float = TOL_V,
+                 on_step: Callable[[], None] | None = None) -> pd.DataFrame:
+    """Lowest working supply of every part at one corner ('cold' or 'hot').
+
+    Returns a DataFrame indexed like `parts` with `V` (NaN unless found),
+    `status` and `limit` (see the module docstring).
+    """
+    n = len(parts)
+    ta_C = corner_temperature(req, corner)
+    step = on_step or (lambda: None)
+    out = pd.DataFrame({"V": np.full(n, np.nan), "status": np.full(n, "unknown", dtype=object),
+                        "limit": np.full(n, "", dtype=object)}, index=parts.index)
+    if n == 0:
+        return out
+    if not supply_driven(role):
+        works, limit, unknown = verdict(at_supply(parts, role, req, req.supply.min_V, ta_C), role)
+        step()
+        out["status"] = np.where(works, "any", np.where(unknown, "unknown", "never"))
+        out["limit"] = np.where(works | unknown, "", limit)
+        return out
+
+    top = search_top_V(req)
+    works, limit, unknown = verdict(at_supply(parts, role, req, top, ta_C), role)
+    step()
+    out["status"] = np.where(works, "found", np.where(unknown, "unknown", "never"))
+    out["limit"] = np.where(works | unknown, "", limit)
+    active = np.flatnonzero(works)
+    if active.size == 0:
+        return out
+    sub = parts.iloc[active]
+    lo = np.zeros(active.size)
+    hi = np.full(active.size, top)
+    lo_limit = np.full(active.size, "", dtype=object)
+    for _ in range(steps_for(top, tol_V)):
+        mid = 0.5 * (lo + hi)
+        ok, why, _ = verdict(at_supply(sub, role, req, mid, ta_C), role)
+        hi = np.where(ok, mid, hi)
+        lo = np.where(ok, lo, mid)
+        lo_limit = np.where(ok, lo_limit, why)
+        step()
+    out.iloc[active, out.columns.get_loc("V")] = hi
+    out.iloc[active, out.columns.get_loc("limit")] = lo_limit
+    return out
+
+
+def steps_for(top_V: float, tol_V: float) -> int:
+    """Halvings needed to bring a bracket of width top_V below tol_V."""
+    return max(1, math.ceil(math.log2(top_V / tol_V)))
+
+
+def evaluations(role: Role, req: Requirements, tol_V: float = TOL_V) -> int:
+    """How many engine evaluations `lowest_supply` makes (for a progress bar)."""
+    per_corner = 1 + (steps_for(search_top_V(req), tol_V) if supply_driven(role) else 0)
+    return len(CORNERS) * per_corner
+
+
+def lowest_supply(parts: pd.DataFrame, role: Role, req: Requirements, *,
+                  tol_V: float = TOL_V,
+                  on_step: Callable[[], None] | None = None) -> pd.DataFrame:
+    """The lowest working supply of every part, per corner and overall.
+
+    `parts`: catalogue rows of the role's kind. Returns a DataFrame indexed
+    like `parts` with, per corner c in (cold, hot), `lowest_supply_c_V`,
+    `lowest_supply_c_status`, `lowest_supply_c_limit`, and overall
+    `lowest_supply_V`, `lowest_supply_status`, `lowest_supply_limit`,
+    `lowest_supply_corner` (the corner that sets it). `on_step` is called
+    after each engine evaluation (`evaluations()` in all).
+    """
+    out = pd.DataFrame(index=parts.index)
+    solved = {c: solve_corner(parts, role, req, c, tol_V=tol_V, on_step=on_step) for c in CORNERS}
+    for c, s in solved.items():
+        out[f"lowest_supply_{c}_V"] = s["V"]
+        out[f"lowest_supply_{c}_status"] = s["status"]
+        out[f"lowest_supply_{c}_limit"] = s["limit"]
+    cold, hot = solved["cold"], solved["hot"]
+    cs, hs = cold["status"].to_numpy(), hot["status"].to_numpy()
+    cv, hv = cold["V"].to_numpy(dtype=float), hot["V"].to_numpy(dtype=float)
+    # The worse corner: never > unknown > found (the higher voltage) > any.
+    rank = {"any": 0, "found": 1, "unknown": 2, "never": 3}
+    cr, hr = np.vectorize(rank.get, otypes=[int])(cs), np.vectorize(rank.get, otypes=[int])(hs)
+    both_found = (cs == "found") & (hs == "found")
+    higher = np.nan_to_num(hv, nan=-np.inf) > np.nan_to_num(cv, nan=-np.inf)
+    hot_worse = np.where(both_found, higher, hr > cr)
+    pick = lambda col: np.where(hot_worse, hot[col].to_numpy(), cold[col].to_numpy())  # noqa: E731
+    out["lowest_supply_V"] = pick("V").astype(float)
+    out["lowest_supply_status"] = pick("status")
+    out["lowest_supply_limit"] = pick("limit")
+    out["lowest_supply_corner"] = np.where(hot_worse, "hot", "cold")
+    return out
+
+
+# -- words -------------------------------------------------------------------------
+
+def shown_V(value: float) -> float:
+    """A lowest-supply voltage rounded *up* to the millivolt, as it is shown: a
+    figure rounded down would claim the part works where it does not."""
+    return math.ceil(value * 1000.0 - 1e-9) / 1000.0
+
+
+def format_V(value: float) -> str:
+    from picker.quantities import format_quantity
+
+    return format_quantity(shown_V(value), "V", 4)
+
+
+def _requirement(role: Role) -> str:
+    from picker.quantities import format_quantity as q
+
+    if role.is_pass_switch:
+        return f"{q(role.max_drop_V, 'V')}"
+    return f"Ib·hFE ≥ {role.overdrive:g} × {q(role.collector_current_A, 'A')}"
+
+
+_BELOW = {"gate_drive": "the gate is no longer driven on", "drop": "the drop is over the limit",
+          "tj": "the junction runs over its limit", "saturation": "the base drive is too weak"}
+
+
+def describe(row, role: Role, req: Requirements, corner: str | None = None) -> str:
+    """One sentence for a part's lowest working supply (overall, or one corner).
+
+    `row`: a mapping with the columns `lowest_supply` returns.
+    """
+    suffix = "" if corner is None else f"_{corner}"
+    status = row[f"lowest_supply{suffix}_status"]
+    limit = row[f"lowest_supply{suffix}_limit"]
+    if corner is None:
+        corner = row["lowest_supply_corner"]
+    t_C = corner_temperature(req, corner)
+    meets = (f"meets {_requirement(role)}" if role.is_pass_switch
+             else f"saturates ({_requirement(role)})")
+    drive = "gate" if role.is_pass_switch else "base"
+    if status == "found":
+        v = row[f"lowest_supply{suffix}_V"]
+        if shown_V(v) > req.supply.min_V:
+            return (f"{meets} only from {format_V(v)} up at {t_C:g} °C, above the "
+                    f"{req.supply.min_V:g} V of an empty cell")
+        text = f"{meets} down to {format_V(v)} at {t_C:g} °C"
+        return text + (f"; below it {_BELOW[limit]}" if limit in _BELOW else "")
+    if status == "any":
+        return (f"{meets} at any supply: the {drive} drive is a fixed voltage, so the cell's "
+                "voltage does not matter")
+    if status == "never":
+        where = (f"at any supply up to {format_V(search_top_V(req))}" if supply_driven(role)
+                 else f"at any supply (the {drive} drive is a fixed voltage)")
+        what = f"meet {_requirement(role)}" if role.is_pass_switch else "saturate"
+        return f"does not {what} {where} at {t_C:g} °C ({limit} fails)"
+    return "lowest working supply unknown: data missing"
+
+
+def short(row, corner: str | None = None) -> str:
+    """The figure as a table cell: '2.785 V', 'any', 'never', '?'."""
+    suffix = "" if corner is None else f"_{corner}"
+    status = row[f"lowest_supply{suffix}_status"]
+    if status == "found":
+        return format_V(row[f"lowest_supply{suffix}_V"])
+    return {"any": "any", "never": "never"}.get(status, "?")
+
+
+def sort_value(row, corner: str | None = None) -> float:
+    """The figure as a number to compare (lower is better): any -> 0, never -> inf."""
+    suffix = "" if corner is None else f"_{corner}"
+    status = row[f"lowest_supply{suffix}_status"]
+    if status == "found":
+        return float(row[f"lowest_supply{suffix}_V"])
+    return {"any": 0.0, "never": math.inf}.get(status, math.nan)
+
+
+def to_json(row, corner: str | None = None) -> dict:
+    """The figure for the JSON of lineup/curve: voltage (null unless found), status, limit."""
+    suffix = "" if corner is None else f"_{corner}"
+    v = row[f"lowest_supply{suffix}_V"]
+    out = {"V": None if not np.isfinite(v) else float(v),
+           "status": row[f"lowest_supply{suffix}_status"],
+           "limit": row[f"lowest_supply{suffix}_limit"] or None}
+    if not suffix:
+        out["corner"] = row["lowest_supply_corner"]
+    return out
