@@ -14,6 +14,7 @@ PASS = 1, FAIL = 0, UNKNOWN = -1.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
@@ -28,6 +29,11 @@ OUTCOME = {PASS: "pass", FAIL: "fail", UNKNOWN: "unknown"}
 GATE_HEADROOM_V = 0.1  # models.md §6: vgs must exceed Vt(Ta) by this much
 HOURS_PER_YEAR = 8766.0  # 365.25 days
 
+# The catalogue columns the models read (besides the '@' point families).
+MODEL_COLUMNS = {"part", "maker", "package", "preferred", "status", "vds_max_V", "vgs_max_V",
+                 "id_max_A", "vgs_th_max_V", "vgs_th_tc_mV/C", "rds_tc_pct/C", "idss_uA",
+                 "idss_hot_uA", "idss_hot_C", "vceo_max_V", "ic_max_A", "vbe_on_V", "icbo_nA",
+                 "icbo_hot_nA", "icbo_hot_C", "rth_ja_C/W", "tj_max_C"}
 PASS_SWITCH_CHECKS = ("gate_drive", "drop", "tj", "off_current", "vds_rating", "vgs_rating",
                       "id_rating")
 SWITCH_CHECKS = ("saturation", "vce_sat", "off_current", "vceo_rating", "ic_rating")
@@ -68,27 +74,53 @@ def _limit_check(value: np.ndarray, limit: float, *, at_least: bool = False) -> 
 
 @dataclass
 class RoleResult:
-    """One role's candidates, best first, and its choice."""
+    """One role's candidates, best first, and its choice.
+
+    `frame` holds one row per candidate in catalogue order (with its `rank`);
+    `order` lists its rows best first. The rank-ordered `table` is made on
+    first use, so evaluating a million parts does not pay for reordering a
+    million rows that nobody prints."""
 
     role: Role
-    table: pd.DataFrame  # one row per candidate, rank order (see evaluate_role)
+    frame: pd.DataFrame
+    order: np.ndarray
     checks: tuple[str, ...]
     figures: tuple[str, ...]
-    parts: pd.DataFrame | None = None  # the catalogue rows evaluated (same index as table)
+    catalog_df: pd.DataFrame | None = None
+    mask: np.ndarray | None = None  # the catalogue rows of the role's kind
+
+    @cached_property
+    def table(self) -> pd.DataFrame:
+        """Every candidate, in rank order (models.md §8)."""
+        return self.frame.take(self.order)
+
+    @cached_property
+    def parts(self) -> pd.DataFrame | None:
+        """The catalogue rows evaluated (same index as `table`), in catalogue order."""
+        if self.catalog_df is None:
+            return None
+        return self.catalog_df[self.mask]
+
+    def _ranked(self, rows: np.ndarray) -> pd.DataFrame:
+        """The rows (positions in `frame`) selected by a mask over `order`."""
+        return self.frame.take(self.order[rows])
 
     @property
     def choice(self) -> pd.Series | None:
         """The first feasible candidate with a price (models.md §8), or None."""
-        priced = self.table[self.table["feasible"] & np.isfinite(self.table["cost"])]
-        return None if priced.empty else priced.iloc[0]
+        ok = (self.frame["feasible"].to_numpy()[self.order]
+              & np.isfinite(self.frame["cost"].to_numpy(dtype=float)[self.order]))
+        if not ok.any():
+            return None
+        return self.frame.iloc[self.order[int(np.argmax(ok))]]
 
     @property
     def feasible(self) -> pd.DataFrame:
-        return self.table[self.table["feasible"]]
+        return self._ranked(self.frame["feasible"].to_numpy()[self.order])
 
     @property
     def rejected(self) -> pd.DataFrame:
-        return self.table[~self.table["feasible"]]
+        return self._ranked(~self.frame["feasible"].to_numpy()[self.order])
 
 
 @dataclass
@@ -111,7 +143,9 @@ def evaluate(catalog_df: pd.DataFrame, req: Requirements) -> DesignResult:
 
 def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> RoleResult:
     """All catalogue parts of the role's kind: figures, checks, notes, rank."""
-    parts = catalog_df[catalog_df["kind"] == role.kind]
+    mask = (catalog_df["kind"] == role.kind).to_numpy(dtype=bool)
+    model_columns = [c for c in catalog_df.columns if c in MODEL_COLUMNS or "@" in c]
+    parts = catalog_df[model_columns] if mask.all() else catalog_df.loc[mask, model_columns]
     # Columns are gathered in a dict and made a DataFrame once: inserting
     # some 45 columns one by one costs more than all the models together.
     if role.is_pass_switch:
@@ -135,8 +169,9 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     out["feasible"] = feasible
     out["n_fail"] = n_fail
     out["n_unknown"] = n_unknown
-    table = pd.DataFrame(out, index=parts.index)
-    return RoleResult(role, rank(table, role), checks, figures, parts)
+    frame = pd.DataFrame(out, index=parts.index)
+    order = rank(frame, role)
+    return RoleResult(role, frame, order, checks, figures, catalog_df, mask)
 
 
 def _identity(parts: pd.DataFrame) -> dict:
@@ -177,11 +212,11 @@ def _pass_switch_columns(parts: pd.DataFrame, role: Role, req: Requirements) -> 
 
     corners = {}
     for corner, ta_C in (("cold", req.ambient.min_C), ("hot", req.ambient.max_C)):
-        resistance_at = _RecomputeMoved(resistance_of, len(parts))
         vt_V = mosfet.threshold_at(vt25_V, ta_C, k_vt)
-        tj_C, converged = thermal.solve_junction_temperature(ta_C, load_A, rth, resistance_at)
+        tj_C, converged = thermal.solve_junction_temperature(
+            ta_C, load_A, rth, lambda t_C, rows: resistance_of(rows, t_C))
         tj_C = np.broadcast_to(tj_C, vt25_V.shape)
-        rds = resistance_at(tj_C)
+        rds = resistance_of(slice(None), tj_C)
         corners[corner] = dict(vt_V=vt_V, gate_ok=vgs_V >= vt_V + GATE_HEADROOM_V, tj_C=tj_C,
                                converged=np.broadcast_to(converged, vt25_V.shape), rds=rds)
     cold, hot = corners["cold"], corners["hot"]
@@ -241,28 +276,6 @@ def _pass_switch_columns(parts: pd.DataFrame, role: Role, req: Requirements) -> 
     out["check_id_rating"] = _limit_check(values(parts, "id_max_A") * derate_i, load_A,
                                           at_least=True)
     return out
-
-
-class _RecomputeMoved:
-    """R(Tj) for the thermal solver, recomputed only for the parts whose Tj moved
-    since the last call. The solver passes the whole Tj array at every step,
-    but most parts settle in a few steps while a few take dozens; the settled
-    ones keep their R. Values are the same as computing every part (the model
-    is elementwise); only the work shrinks."""
-
-    def __init__(self, resistance_of, n: int) -> None:
-        self.resistance_of = resistance_of  # (row indices, Tj of those rows) -> R
-        self.t_C = np.full(n, np.nan)
-        self.r_ohm = np.full(n, np.nan)
-
-    def __call__(self, t_C) -> np.ndarray:
-        t_C = np.broadcast_to(np.asarray(t_C, dtype=float), self.t_C.shape)
-        same = (t_C == self.t_C) | (np.isnan(t_C) & np.isnan(self.t_C))  # R(NaN) stays NaN
-        rows = np.flatnonzero(~same)
-        if rows.size:
-            self.r_ohm[rows] = self.resistance_of(rows, t_C[rows])
-            self.t_C[rows] = t_C[rows]
-        return self.r_ohm.copy()
 
 
 def _tj_limit(tj_max_C: np.ndarray, role_max_C: float | None, margin_C: float) -> np.ndarray:
@@ -337,14 +350,15 @@ def _price(out: dict, parts: pd.DataFrame, role: Role, req: Requirements) -> Non
     out["no_price"] = ~np.isfinite(unit)
 
 
-def rank(out: pd.DataFrame, role: Role) -> pd.DataFrame:
+def rank(out: pd.DataFrame, role: Role) -> np.ndarray:
     """models.md §8: feasible by cost, then preferred first, then drop (or
     Vce(sat)); then feasible parts with no price; then the rest, fewest failed
-    checks first. Remaining ties: cost, then part number, for a stable order.
-    Returns the rows in rank order with a `rank` column (1 = best); the column
-    is also added to `out` itself."""
+    checks first. Remaining ties: cost, then catalogue order, for a stable
+    order. Adds a `rank` column to `out` (1 = best) and returns the row
+    positions best first."""
     if out.empty:
-        return out.assign(rank=np.zeros(0, dtype=int))
+        out["rank"] = np.zeros(0, dtype=np.int64)
+        return np.zeros(0, dtype=np.int64)
     feasible = out["feasible"].to_numpy()
     priced = np.isfinite(out["cost"].to_numpy())
     group = np.where(feasible & priced, 0, np.where(feasible, 1, 2))
@@ -352,7 +366,6 @@ def rank(out: pd.DataFrame, role: Role) -> pd.DataFrame:
     cost = np.nan_to_num(out["cost"].to_numpy(dtype=float), nan=np.inf)
     n_fail = np.where(group == 2, out["n_fail"].to_numpy(), 0)  # < 100: a handful of checks
     order = np.lexsort((
-        out["part"].astype(str).to_numpy(),
         np.nan_to_num(figure, nan=np.inf),
         ~out["preferred"].to_numpy(dtype=bool),
         cost,
@@ -360,8 +373,8 @@ def rank(out: pd.DataFrame, role: Role) -> pd.DataFrame:
     ))
     rank_of_row = np.empty(len(order), dtype=np.int64)
     rank_of_row[order] = np.arange(1, len(order) + 1)
-    out["rank"] = rank_of_row  # set before the take: one reorder, no extra copy
-    return out.take(order)
+    out["rank"] = rank_of_row
+    return order
 
 
 def design_totals(req: Requirements, roles: list[RoleResult]) -> DesignResult:

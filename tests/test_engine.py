@@ -755,8 +755,8 @@ def test_catalogue_without_a_point_family_does_not_crash(tmp_path, rows):
 
 
 def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_path, monkeypatch):
-    """Regression for a speed-up: during the self-heating iteration the engine
-    recomputes R only for parts whose Tj moved. The table must be identical
+    """Regression for a speed-up: during the self-heating iteration the solver
+    recomputes R only for the parts still moving. The table must be identical
     (every value, dtype and the order) to recomputing every part at every
     step. Demo catalogue plus parts that never settle (runaway), lose R
     (no on-resistance point) or have no rth."""
@@ -764,12 +764,12 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
 
     from picker import engine
 
-    class FullRecompute:
-        def __init__(self, resistance_of, n):
-            self.resistance_of, self.rows = resistance_of, np.arange(n)
+    solve = engine.thermal.solve_junction_temperature
 
-        def __call__(self, t_C):
-            return self.resistance_of(self.rows, np.broadcast_to(t_C, self.rows.shape))
+    def full_recompute(ta_C, current_A, rth, resistance_at, **kw):
+        n = np.broadcast(np.asarray(ta_C), np.asarray(current_A), np.asarray(rth)).size
+        rows = np.arange(n)
+        return solve(ta_C, current_A, rth, lambda t_C: resistance_at(t_C, rows), **kw)
 
     extra = [part(_heating_part(), part="RUNAWAY", rth_ja_C_per_W=500, **{"rds_on_mohm@4.5V": 1000}),
              part(GOOD_PMOS, part="NO-POINT", **{"rds_on_mohm@4.5V": None, "rds_on_mohm@2.5V": None}),
@@ -781,7 +781,7 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
                            pass_role(name="low", refs='["Q2"]', use="low-side-nmos",
                                      load="0.4 A", extra='gate_drive = "1.8 V"'))
         fast = [run_role(catalog, req, i).table for i in (0, 1)]
-        monkeypatch.setattr(engine, "_RecomputeMoved", FullRecompute)
+        monkeypatch.setattr(engine.thermal, "solve_junction_temperature", full_recompute)
         slow = [run_role(catalog, req, i).table for i in (0, 1)]
         monkeypatch.undo()
         for a, b in zip(fast, slow):

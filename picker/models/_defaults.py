@@ -11,4 +11,7 @@ def or_default(values, default):
     there a blank cell is not *unknown*, it means *no override*.
     """
     values = np.asarray(values, dtype=float)
-    return np.where(np.isnan(values), default, values)
+    blank = np.isnan(values)
+    if blank.all():
+        return default  # no part overrides it: the scalar broadcasts for free
+    return np.where(blank, default, values)

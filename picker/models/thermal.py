@@ -41,24 +41,37 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
     no_rth = np.isnan(rth_C_per_W)
     tj_C = ta_C.copy()
     converged = no_rth.copy()
-    idx = np.flatnonzero(~no_rth)  # the parts still moving
     by_index = len(inspect.signature(resistance_at).parameters) >= 2
+    # While most parts are still moving, whole arrays are cheapest; once fewer
+    # than half are, the work continues on the index list of those parts.
+    active = ~no_rth
+    idx = None
     with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
         for step in range(max_steps):
-            if idx.size == 0:
+            if idx is None and np.count_nonzero(active) < active.size // 2:
+                idx = np.flatnonzero(active)
+            rows = slice(None) if idx is None else idx
+            if idx is not None and idx.size == 0 or idx is None and not active.any():
                 break
             if by_index:
-                rds_ohm = np.asarray(resistance_at(tj_C[idx], idx), dtype=float)
+                rds_ohm = np.asarray(resistance_at(tj_C[rows], rows), dtype=float)
             else:
-                rds_ohm = np.asarray(resistance_at(tj_C), dtype=float)[idx]
-            new_C = ta_C[idx] + current_A[idx] ** 2 * rds_ohm * rth_C_per_W[idx]
-            lost = ~np.isfinite(new_C)
+                rds_ohm = np.asarray(resistance_at(tj_C), dtype=float)[rows]
+            new_C = ta_C[rows] + current_A[rows] ** 2 * rds_ohm * rth_C_per_W[rows]
+            moving = active[rows] if idx is None else np.ones(idx.size, dtype=bool)
+            lost = moving & ~np.isfinite(new_C)
             if step == 0:
-                tj_C[idx[lost]] = np.nan  # R unknown from the start
-            step_C = np.abs(new_C - tj_C[idx])
-            keep = ~lost
-            tj_C[idx[keep]] = new_C[keep]
+                tj_C[rows] = np.where(lost, np.nan, tj_C[rows])  # R unknown from the start
+            step_C = np.abs(new_C - tj_C[rows])
+            keep = moving & ~lost
             settled = keep & (step_C < tol_C)
-            converged[idx[settled]] = True
-            idx = idx[keep & ~settled & ~(new_C > bound_C)]
+            still = keep & ~settled & ~(new_C > bound_C)
+            if idx is None:
+                tj_C = np.where(keep, new_C, tj_C)
+                converged |= settled
+                active = still
+            else:
+                tj_C[idx[keep]] = new_C[keep]
+                converged[idx[settled]] = True
+                idx = idx[still]
     return tj_C, converged
