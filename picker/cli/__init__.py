@@ -53,6 +53,7 @@ from picker.cli import catalog_cmd  # noqa: E402,F401
 from picker.cli import choose_cmd  # noqa: E402,F401
 from picker.cli import import_cmd  # noqa: E402,F401
 from picker.cli import lineup_cmd  # noqa: E402,F401
+from picker.cli import review_cmd  # noqa: E402,F401
 
 
 def main() -> None:

@@ -1,0 +1,721 @@
+"""Cost-down review of a BOM: which transistor lines could be cheaper at the
+build volume, without giving anything up.
+
+For each transistor line found in the catalogue (`picker.bom`), a mask over
+every catalogue part of the same kind says which parts may replace it:
+
+- without a requirement file, the **drop-in rule** (`KindParts.drop_in`): same
+  kind, an accepted package, and at least as good on every rating and figure
+  the incumbent has data for;
+- with one, the roles whose refs name the line: the engine's feasible parts
+  (`engine.evaluate_role`), in an accepted package.
+
+The cheapest part of the mask at the line's quantity (volume x qty per board,
+models.md §7) is proposed when it is cheaper than the incumbent. Then lines of
+one kind that one part could all serve are consolidated where the combined
+quantity's price break pays (`consolidate`). Prices are the catalogue's at
+the build quantity, for the incumbent and the proposal alike; the BOM's own
+price column is shown beside them, never used for a saving.
+
+The screen is vectorised over the catalogue: one pass of numpy comparisons
+per BOM line (a loop over BOM lines, none over parts).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from picker import columns as cols
+from picker.bom import CONFIRM_AT, TAKE_AT, Bom, BomLine, Change, Match, PartIndex
+from picker.catalog import Problem, normalise_part, points, values
+from picker.errors import UsageError
+from picker.models import bipolar, leakage, mosfet, pricing
+
+DEFAULT_VOLUME = 1000  # boards per build when neither --volume nor a requirement file says
+REL_TOL = 1e-9  # comparisons of equal figures are not spoiled by float rounding
+EPS_MONEY = 1e-12  # a saving must exceed this to count
+
+
+@dataclass(frozen=True)
+class Options:
+    volume: int = DEFAULT_VOLUME
+    packages_ok: tuple[tuple[str, ...], ...] = ()  # groups of interchangeable packages
+    include_nrnd: bool = False  # may a not-recommended part be proposed
+    take_at: float = TAKE_AT
+    confirm_at: float = CONFIRM_AT
+
+    def __post_init__(self) -> None:
+        if not (isinstance(self.volume, (int, np.integer)) and self.volume >= 1):
+            raise UsageError(f"--volume must be a whole number of boards, 1 or more (got {self.volume})")
+
+
+def package_key(name) -> str:
+    """'SOT-23' and 'sot23' are one outline: case and punctuation ignored."""
+    return normalise_part(str(name)) if isinstance(name, str) else ""
+
+
+def package_groups(groups) -> dict[str, set[str]]:
+    """package key -> every key equivalent to it (groups sharing a name merge)."""
+    merged: list[set[str]] = []
+    for group in groups:
+        keys = {package_key(p) for p in group if package_key(p)}
+        if not keys:
+            continue
+        for other in [m for m in merged if m & keys]:
+            keys |= other
+            merged.remove(other)
+        merged.append(keys)
+    return {k: m for m in merged for k in m}
+
+
+# -- the drop-in screen, per kind -------------------------------------------------------
+
+@dataclass(frozen=True)
+class Criterion:
+    label: str  # 'Rds(on) at 2.5 V'
+    unit: str  # for the explanation: 'mΩ'
+    higher_is_better: bool
+
+
+class KindParts:
+    """Every catalogue part of one kind, as arrays the drop-in screen compares.
+
+    For each criterion two columns: the incumbent's value (its datasheet
+    figure, NaN without one) and every candidate's comparable value. They
+    differ for the point families: a candidate is compared at the incumbent's
+    conditions, by its own datasheet value where it has a point there, else:
+
+    - Rds(on): its fitted curve ``R = R_fix + K / (Vg - Vt)`` (models.md §1,
+      `mosfet.fit_on_resistance`, Vt = vgs_th_max_V) at the incumbent's drive,
+      compared with the incumbent's *datasheet* value at that drive (a
+      guarantee is compared with a guarantee or the model's estimate of one,
+      not two estimates). Below the candidate's lowest datasheet drive the
+      curve is an extrapolation and the candidate counts as lacking the data.
+      Above its highest drive the curve is used when it rests on two or more
+      points; a one-point curve (all channel, R_fix = 0) overstates the fall
+      with drive, so there the point's own value is used, a bound that holds
+      because R only falls as the drive rises.
+    - hFE (log-log) and Vce(sat) (linear), models.md §6: interpolated only
+      between the candidate's own points; outside them it lacks the data
+      (gain falls at both ends of the current range, so the end value would
+      flatter it).
+    """
+
+    def __init__(self, df: pd.DataFrame, positions: np.ndarray, kind: str) -> None:
+        sub = df.iloc[positions]
+        self.kind = kind
+        self.positions = positions  # into the catalogue DataFrame
+        self.labels = sub.index
+        self.n = len(sub)
+        self.part = sub["part"].astype(str).to_numpy()
+        self.maker = (sub["maker"].astype(str) if "maker" in sub else pd.Series([""] * self.n)).to_numpy()
+        raw_pkg = sub["package"].astype(str) if "package" in sub else pd.Series([""] * self.n)
+        self.package = raw_pkg.to_numpy()
+        self.package_key = raw_pkg.str.casefold().str.replace(r"[^0-9a-z]", "", regex=True).to_numpy()
+        self.preferred = (sub["preferred"].to_numpy(dtype=bool) if "preferred" in sub
+                          else np.zeros(self.n, dtype=bool))
+        self.status = sub["status"].astype(str).to_numpy() if "status" in sub else np.full(self.n, "active")
+        self.breaks, self.prices = points(sub, "price")
+        self._price_cache: dict[float, np.ndarray] = {}
+        crit: list[tuple[Criterion, np.ndarray, np.ndarray]] = []
+
+        def plain(label, name, unit, higher):
+            v = values(sub, name)
+            crit.append((Criterion(label, unit, higher), v, v))
+
+        if kind in cols.MOSFET_KINDS:
+            for label, name, unit in (("Vds rating", "vds_max_V", "V"), ("Vgs rating", "vgs_max_V", "V"),
+                                      ("Id rating", "id_max_A", "A"), ("Tj max", "tj_max_C", "°C")):
+                plain(label, name, unit, True)
+            plain("Vgs(th) max", "vgs_th_max_V", "V", False)
+            plain("Idss", "idss_uA", "µA", False)
+            drives, rds = points(sub, "rds_on_mohm")
+            vt = values(sub, "vgs_th_max_V")
+            fit = mosfet.fit_on_resistance(drives, rds, vt)
+            finite = np.isfinite(rds)
+            highest = np.max(np.where(finite, drives, -np.inf), axis=1) if rds.size else np.zeros(0)
+            single = np.nanmax(np.where(finite, rds, np.nan), axis=1) if rds.size else np.zeros(0)
+            for j, drive in enumerate(drives):
+                fitted = mosfet.on_resistance(drive, 25.0, fit.r_fix_ohm, fit.k_ohm_V, vt)
+                fitted = np.where((drive > highest) & (fit.n_points == 1), single, fitted)
+                fitted = np.where(drive >= fit.lowest_drive_V, fitted, np.nan)
+                cand = np.where(finite[:, j], rds[:, j], fitted)
+                crit.append((Criterion(f"Rds(on) at {drive:g} V", "mΩ", False), rds[:, j], cand))
+            self.hot = ("Idss", "µA", values(sub, "idss_uA"), values(sub, "idss_hot_uA"),
+                        values(sub, "idss_hot_C"))
+        else:
+            for label, name, unit in (("Vceo rating", "vceo_max_V", "V"), ("Ic rating", "ic_max_A", "A"),
+                                      ("Tj max", "tj_max_C", "°C")):
+                plain(label, name, unit, True)
+            plain("Icbo", "icbo_nA", "nA", False)
+            for prefix, label, unit, higher, log in (("hfe_min", "hFE", "", True, True),
+                                                     ("vce_sat_mV", "Vce(sat)", "mV", False, False)):
+                currents, data = points(sub, prefix)
+                finite = np.isfinite(data)
+                low = np.min(np.where(finite, currents, np.inf), axis=1) if data.size else np.zeros(0)
+                high = np.max(np.where(finite, currents, -np.inf), axis=1) if data.size else np.zeros(0)
+                for j, current in enumerate(currents):
+                    if log:
+                        between = bipolar.hfe_at_current(currents, data, current)[0]
+                    else:
+                        between = bipolar.vce_sat_at_current(currents, data, current)
+                    inside = (current >= low) & (current <= high)
+                    cand = np.where(finite[:, j], data[:, j], np.where(inside, between, np.nan))
+                    crit.append((Criterion(f"{label} at {current:g} mA", unit, higher), data[:, j], cand))
+            self.hot = ("Icbo", "nA", values(sub, "icbo_nA"), values(sub, "icbo_hot_nA"),
+                        values(sub, "icbo_hot_C"))
+        plain("θJA", "rth_ja_C/W", "°C/W", False)
+        self.criteria = [c for c, _, _ in crit]
+        self.inc = np.column_stack([i for _, i, _ in crit])
+        self.cand = np.column_stack([c for _, _, c in crit])
+        self.higher = np.array([c.higher_is_better for c in self.criteria])
+        self.cand_by_column = np.ascontiguousarray(self.cand.T)  # one contiguous row per figure
+        self._package_names, self._package_code = np.unique(self.package_key, return_inverse=True)
+        self._status_names, self._status_code = np.unique(self.status, return_inverse=True)
+        self._allowed_cache: dict[tuple, np.ndarray] = {}
+
+    def price_at(self, quantity: float) -> np.ndarray:
+        """Unit price of every part at `quantity` bought (models.md §7), cached."""
+        if quantity not in self._price_cache:
+            self._price_cache[quantity] = pricing.unit_price_at(self.breaks, self.prices, quantity)[0]
+        return self._price_cache[quantity]
+
+    def allowed(self, incumbent: int, options: Options, groups: dict[str, set[str]]) -> np.ndarray:
+        """Parts in a package the engineer accepts for this incumbent and of a status
+        that may be proposed (active; nrnd with include_nrnd; never eol). Cached:
+        lines share their packages."""
+        key = self.package_key[incumbent]
+        cache = (key, options.include_nrnd, id(groups))
+        if cache not in self._allowed_cache:
+            accepted = groups.get(key, {key}) if key else set()
+            statuses = ("active", "nrnd") if options.include_nrnd else ("active",)
+            pkg_ok = np.array([k in accepted for k in self._package_names], dtype=bool)
+            status_ok = np.array([s in statuses for s in self._status_names], dtype=bool)
+            self._allowed_cache[cache] = pkg_ok[self._package_code] & status_ok[self._status_code]
+        return self._allowed_cache[cache]
+
+    def drop_in(self, incumbent: int, among: np.ndarray | None = None) -> np.ndarray:
+        """True where a part is at least as good as the incumbent on every rating
+        and figure the incumbent has data for (package and status apart: see
+        `allowed`). Missing data where the incumbent has some fails. `among`
+        (bool per part): only these are compared, the rest are False."""
+        rows = np.arange(self.n) if among is None else np.flatnonzero(among)
+        inc = self.inc[incumbent]
+        ok = np.ones(rows.size, dtype=bool)
+        cand = self.cand_by_column
+        with np.errstate(invalid="ignore"):
+            for j in np.flatnonzero(np.isfinite(inc)):  # a loop over figures, not parts
+                column = cand[j] if among is None else cand[j][rows]
+                if self.higher[j]:
+                    ok &= column >= inc[j] - REL_TOL * abs(inc[j])
+                else:
+                    ok &= column <= inc[j] + REL_TOL * abs(inc[j])
+        ok &= self._hot_ok(incumbent, rows)
+        if among is None:
+            return ok
+        out = np.zeros(self.n, dtype=bool)
+        out[rows] = ok
+        return out
+
+    def _hot_ok(self, incumbent: int, rows: np.ndarray) -> np.ndarray:
+        """Where the incumbent gives a second leakage point (I_hot at T_hot), a
+        candidate needs one too, and its two-point exponential (models.md §4) at
+        T_hot must not exceed I_hot."""
+        _, _, i25, hot, hot_c = self.hot
+        if not (np.isfinite(hot[incumbent]) and np.isfinite(hot_c[incumbent])):
+            return np.ones(rows.size, dtype=bool)
+        i25, hot_r, hot_c_r = i25[rows], hot[rows], hot_c[rows]
+        cand = leakage.leakage_at(i25, hot_c[incumbent], hot_r, hot_c_r)
+        with np.errstate(invalid="ignore"):
+            return np.isfinite(hot_r) & np.isfinite(hot_c_r) & (cand <= hot[incumbent] * (1 + REL_TOL))
+
+    def why_not(self, incumbent: int, candidate: int) -> str:
+        """The first figure on which `candidate` is worse than the incumbent, in words."""
+        for j, c in enumerate(self.criteria):
+            ref, got = self.inc[incumbent, j], self.cand[candidate, j]
+            if not math.isfinite(ref):
+                continue
+            unit = f" {c.unit}" if c.unit else ""
+            if not math.isfinite(got):
+                return f"no {c.label}"
+            worse = got < ref * (1 - REL_TOL) if c.higher_is_better else got > ref * (1 + REL_TOL)
+            if worse:
+                return f"{c.label} {got:.3g}{unit} {'<' if c.higher_is_better else '>'} {ref:.3g}{unit}"
+        if not self._hot_ok(incumbent, np.array([candidate]))[0]:
+            label, unit, _, hot, hot_c = self.hot
+            return f"{label} at {hot_c[incumbent]:g} °C above {hot[incumbent]:g} {unit} (or no hot figure)"
+        return ""
+
+
+def drop_ins(catalog_df: pd.DataFrame, part: str, options: Options = Options()) -> pd.DataFrame:
+    """Every other part of `part`'s kind with the drop-in verdict: columns
+    `part`, `package`, `status`, `qualifies` and `why` (the first reason it
+    does not, '' when it does). CatalogError when `part` is not in the
+    catalogue (case, spaces and punctuation ignored)."""
+    from picker.catalog import closest_parts
+    from picker.errors import CatalogError
+
+    df = catalog_df if catalog_df.index.is_unique else catalog_df.reset_index(drop=True)
+    keys = df["part"].astype(str).map(normalise_part).to_numpy()
+    hits = np.flatnonzero(keys == normalise_part(part))
+    if not hits.size:
+        close = closest_parts(df, part)
+        raise CatalogError(f"no part '{part}' in the catalogue"
+                           + (f"; closest: {', '.join(close)}" if close else ""))
+    kind = str(df["kind"].iat[hits[0]])
+    positions = np.flatnonzero(df["kind"].astype(str).to_numpy() == kind)
+    kp = KindParts(df, positions, kind)
+    inc = int(np.searchsorted(positions, hits[0]))
+    groups = package_groups(options.packages_ok)
+    fits, allowed = kp.drop_in(inc), kp.allowed(inc, options, groups)
+    key = kp.package_key[inc]
+    accepted = groups.get(key, {key}) if key else set()
+    why = []
+    for j in range(kp.n):  # words for each part: this table is for people, not for speed
+        if kp.package_key[j] not in accepted:
+            why.append(f"package {kp.package[j] or 'unknown'}")
+        elif not allowed[j]:
+            why.append(f"status {kp.status[j]}")
+        else:
+            why.append("" if fits[j] else (kp.why_not(inc, j) or "not a drop-in"))
+    out = pd.DataFrame({"part": kp.part, "package": kp.package, "status": kp.status,
+                        "qualifies": fits & allowed, "why": why})
+    return out.drop(index=inc).reset_index(drop=True)
+
+
+# -- the review ----------------------------------------------------------------------------
+
+@dataclass
+class LineResult:
+    """The review of one BOM line."""
+
+    line: BomLine
+    category: str  # 'transistor', 'other', 'dnp'
+    match: Match | None = None
+    part: str = ""  # the catalogue part matched
+    kind: str = ""
+    package: str = ""
+    # 'other', 'not fitted', 'not in catalogue', 'no price', 'kept', 'proposal', 'fix', 'no fix'
+    status: str = ""
+    roles: tuple[str, ...] = ()
+    unit_now: float = math.nan
+    proposal: str = ""
+    proposal_maker: str = ""
+    proposal_package: str = ""
+    unit_after: float = math.nan  # of the proposal, or of the incumbent when kept
+    qualifying: int = 0  # other parts that may replace it
+    note: str = ""
+    _kind_pos: int = -1  # incumbent's position in its KindParts
+    _proposal_pos: int = -1
+    _mask: np.ndarray | None = None
+
+    @property
+    def qty(self) -> int | None:
+        return self.line.qty
+
+    @property
+    def cost_now(self) -> float:
+        return self.unit_now * self.qty if self.qty else math.nan
+
+    @property
+    def cost_after(self) -> float:
+        return self.unit_after * self.qty if self.qty else math.nan
+
+    @property
+    def saving(self) -> float:
+        return self.cost_now - self.cost_after
+
+
+@dataclass
+class Group:
+    """One part for several lines of one kind."""
+
+    kind: str
+    part: str
+    maker: str
+    package: str
+    rows: list[int]  # BOM data rows
+    units: int  # parts per board, all lines together
+    unit_price: float  # at volume x units
+    cost_now: float
+    cost_line_by_line: float
+    cost: float
+
+    @property
+    def lines_removed(self) -> int:
+        return len(self.rows) - 1
+
+
+@dataclass
+class Review:
+    bom: Bom
+    options: Options
+    lines: list[LineResult]
+    groups: list[Group]
+    findings: list[dict]
+    warnings: list[Problem]
+    volume_source: str
+    requirements: object = None
+    kinds: dict[str, KindParts] = field(default_factory=dict)
+    alternatives: list[Group] = field(default_factory=list)
+
+    def final(self) -> dict[int, tuple[str, str, str, float]]:
+        """row -> (part, maker, package, unit price) after line proposals and consolidation."""
+        out = {}
+        for r in self.lines:
+            if r.proposal:
+                out[r.line.row] = (r.proposal, r.proposal_maker, r.proposal_package, r.unit_after)
+        for g in self.groups:
+            for row in g.rows:
+                out[row] = (g.part, g.maker, g.package, g.unit_price)
+        return out
+
+    def totals(self) -> dict:
+        costed = [r for r in self.lines if r.category == "transistor" and math.isfinite(r.cost_now)]
+        now = sum(r.cost_now for r in costed)
+        line_by_line = sum(r.cost_after if math.isfinite(r.cost_after) else r.cost_now for r in costed)
+        grouped = {row for g in self.groups for row in g.rows}
+        after = sum((r.cost_after if math.isfinite(r.cost_after) else r.cost_now)
+                    for r in costed if r.line.row not in grouped) + sum(g.cost for g in self.groups)
+        v = self.options.volume
+        return {
+            "volume": v, "cost_per_board_now": now, "cost_per_board_line_by_line": line_by_line,
+            "cost_per_board_after": after, "saving_per_board": now - after,
+            "saving_per_build": (now - after) * v,
+            "lines_costed": len(costed),
+            "lines_not_costed": sum(1 for r in self.lines if r.category == "transistor") - len(costed),
+            "lines_removed": sum(g.lines_removed for g in self.groups),
+        }
+
+    @property
+    def found_anything(self) -> bool:
+        return bool(self.findings or self.groups or any(r.status in ("proposal", "fix") for r in self.lines))
+
+    def changes(self) -> dict[int, Change]:
+        """row -> the change for a revised BOM: a new part, or (consolidation) the
+        same part bought together with other lines at a new price."""
+        final = self.final()
+        by_row = {r.line.row: r for r in self.lines}
+        grouped = {row: g for g in self.groups for row in g.rows}
+        out = {}
+        for row, (part, maker, _, unit) in final.items():
+            r = by_row[row]
+            same = normalise_part(part) == normalise_part(r.part)
+            if same and row not in grouped:
+                continue
+            if row in grouped:
+                g = grouped[row]
+                refs = [ref for x in g.rows for ref in by_row[x].line.refs]
+                why = (f"one part for {', '.join(refs)} ({len(g.rows)} lines into 1, "
+                       f"{g.units * self.options.volume:,} a build)")
+            elif r.status == "fix":
+                why = f"replaces it: {r.note}"
+            else:
+                why = "drop-in" if not r.roles else f"feasible for {', '.join(r.roles)}"
+            head = f"kept {part}" if same else f"was {r.line.part}; {part}"
+            note = f"{head}: {why}; {unit:.4g} each vs {r.unit_now:.4g}"
+            if r.match is not None and r.match.status == "confirm":
+                note += f"; CONFIRM that {r.line.part} is {r.part}"
+            out[row] = Change(None if same else part, None if same else maker, unit, note)
+        return out
+
+
+def review(bom: Bom, catalog_df: pd.DataFrame, options: Options, requirements=None,
+           *, volume_source: str = "--volume", index: PartIndex | None = None) -> Review:
+    """Review every line of `bom` against the catalogue (see the module docstring)."""
+    df = catalog_df if catalog_df.index.is_unique else catalog_df.reset_index(drop=True)
+    index = index or PartIndex(df["part"])
+    warnings = list(bom.warnings)
+    findings: list[dict] = []
+    results: list[LineResult] = []
+    for ln in bom.lines:
+        category = "dnp" if ln.qty == 0 else ("other" if ln.transistor is False else "transistor")
+        results.append(LineResult(ln, category, status="other" if category == "other" else ""))
+    matches = index.match([ln.part for ln in bom.lines],
+                          fuzzy=np.array([r.category == "transistor" for r in results], dtype=bool),
+                          take_at=options.take_at, confirm_at=options.confirm_at)
+    kind_arr = df["kind"].astype(str).to_numpy()
+    kinds: dict[str, KindParts] = {}
+    local = np.full(len(df), -1, dtype=np.int64)  # catalogue position -> position in its KindParts
+
+    def kind_parts(kind: str) -> KindParts:
+        if kind not in kinds:
+            positions = np.flatnonzero(kind_arr == kind)
+            kinds[kind] = KindParts(df, positions, kind)
+            local[positions] = np.arange(len(positions))
+        return kinds[kind]
+
+    groups_of = package_groups(options.packages_ok)
+    for r, m in zip(results, matches):
+        if r.category == "other" and m.found:  # the catalogue knows it: a transistor after all
+            r.category, r.status = "transistor", ""
+        if r.category == "dnp":
+            r.status = "not fitted"
+            continue
+        if r.category != "transistor":
+            continue
+        r.match = m
+        if not m.found:
+            if r.line.transistor is None:  # no refs, no description: nothing says it is one
+                r.category, r.status = "other", "other"
+            else:
+                r.status = "not in catalogue"
+            continue
+        r.part, r.kind = str(df["part"].iat[m.position]), kind_arr[m.position]
+        kp = kind_parts(r.kind)
+        r._kind_pos = int(local[m.position])
+        r.package = str(kp.package[r._kind_pos])
+        if m.status == "confirm":
+            also = ", ".join(str(df["part"].iat[p]) for p in m.also)
+            warnings.append(Problem("warning", bom.path, r.line.line, bom.columns["part"] + 1,
+                                    f"'{r.line.part}' read as catalogue part {r.part} (score "
+                                    f"{m.score:g}{'; also ' + also if also else ''}): confirm"))
+        if r.line.kind_hint and r.line.kind_hint != r.kind:
+            warnings.append(Problem("warning", bom.path, r.line.line, None,
+                                    f"the description says {r.line.kind_hint}, catalogue part "
+                                    f"{r.part} is {r.kind}: check the match"))
+        status = kp.status[r._kind_pos]
+        if status == "eol":
+            findings.append(_finding(r, "status", f"{r.part} is end of life (eol) in the "
+                                     "catalogue: the line needs a replacement"))
+        elif status == "nrnd":
+            findings.append(_finding(r, "status", f"{r.part} is not recommended for new designs "
+                                     "(nrnd) in the catalogue"))
+
+    role_masks = _roles(requirements, df, results, kind_parts, local, findings, warnings, bom) \
+        if requirements is not None else {}
+    for r in results:
+        if r.category != "transistor" or r._kind_pos < 0:
+            continue
+        _propose(r, kinds[r.kind], options, groups_of, role_masks.get(r.line.row))
+    review_ = Review(bom, options, results, [], findings, warnings, volume_source, requirements, kinds)
+    review_.groups, review_.alternatives = consolidate(results, kinds, options.volume)
+    review_.findings.sort(key=lambda f: (f["type"] != "role", f["line"]))
+    return review_
+
+
+def _finding(r: LineResult, type_: str, text: str, role: str = "") -> dict:
+    return {"type": type_, "line": r.line.line, "refs": list(r.line.refs), "part": r.part or r.line.part,
+            "role": role, "finding": text}
+
+
+def _roles(req, df, results, kind_parts, local, findings, warnings, bom) -> dict:
+    """For each BOM row that roles name: {'roles': names, 'mask': parts feasible
+    for every one of them, 'fails': why the incumbent fails (empty: it meets
+    them), 'uncovered': refs of the line no role names, 'wrong_kind': set
+    where the incumbent is not of a role's kind}. Findings and warnings are
+    appended as found."""
+    from picker.engine import evaluate_role
+    from picker.explain import reasons
+
+    line_of_ref = {}
+    for r in results:
+        for ref in r.line.refs:
+            line_of_ref.setdefault(ref.upper(), r)
+    covered: dict[int, set[str]] = {}
+    out: dict[int, dict] = {}
+    for role in req.roles:
+        lines = []
+        for ref in role.refs:
+            r = line_of_ref.get(ref.upper())
+            if r is None:
+                continue
+            if r not in lines:
+                lines.append(r)
+            covered.setdefault(r.line.row, set()).add(ref.upper())
+        missing = [ref for ref in role.refs if ref.upper() not in line_of_ref]
+        if missing:
+            warnings.append(Problem("warning", str(req.source), None, None,
+                                    f"role '{role.name}': refs {', '.join(missing)} are not in the BOM"))
+        usable = [r for r in lines if r.category == "transistor" and r._kind_pos >= 0]
+        for r in lines:
+            if r.category == "transistor" and r._kind_pos < 0:
+                warnings.append(Problem("warning", bom.path, r.line.line, None,
+                                        f"role '{role.name}' cannot be checked: '{r.line.part}' "
+                                        "is not in the catalogue"))
+        if not usable:
+            continue
+        result = evaluate_role(df, role, req)
+        kp = kind_parts(role.kind)
+        feasible = result.table["feasible"].reindex(kp.labels, fill_value=False).to_numpy(dtype=bool)
+        for r in usable:
+            entry = out.setdefault(r.line.row, {"mask": None, "fails": [], "roles": []})
+            entry["roles"].append(role.name)
+            if r.kind != role.kind:
+                findings.append(_finding(r, "role", f"{r.part} is {r.kind} but role '{role.name}' "
+                                         f"({role.use}) needs {role.kind}", role.name))
+                entry["wrong_kind"] = True
+                continue
+            entry["mask"] = feasible if entry["mask"] is None else entry["mask"] & feasible
+            label = df.index[r.match.position]
+            if not bool(result.table.at[label, "feasible"]):
+                why = "; ".join(reasons(result.table.loc[label], result, req)) or "no price"
+                entry["fails"].append(f"{role.name}: {why}")
+                findings.append(_finding(r, "role", f"{r.part} fails role '{role.name}' "
+                                         f"({role.use}): {why}", role.name))
+    for row, entry in out.items():
+        r = results[row]
+        entry["uncovered"] = [x for x in r.line.refs if x.upper() not in covered.get(row, set())]
+    return out
+
+
+def _propose(r: LineResult, kp: KindParts, options: Options, groups_of, role) -> None:
+    """The cheapest part of the line's mask, when it is cheaper (or a fix)."""
+    inc = r._kind_pos
+    if not r.qty:
+        r.status, r.note = "no price", "no quantity per board"
+        return
+    price = kp.price_at(float(options.volume * r.qty))
+    r.unit_now = float(price[inc])
+    if role is not None and role.get("wrong_kind"):
+        r.status, r.unit_after = "kept", r.unit_now
+        r.note = "the BOM part is not of its role's kind (see findings)"
+        return
+    allowed = kp.allowed(inc, options, groups_of)
+    if role is not None and role["mask"] is not None:
+        r.roles = tuple(role["roles"])
+        mask = role["mask"] & allowed
+        if role["uncovered"]:  # refs on this line that no role describes: drop-in for them
+            mask = kp.drop_in(inc, among=mask)
+    else:
+        mask = kp.drop_in(inc, among=allowed)
+    r._mask = mask
+    r.qualifying = int(mask.sum() - mask[inc])
+    fails = list(role["fails"]) if role is not None else []
+    if kp.status[inc] == "eol":  # a part that cannot be bought must be replaced, whatever the cost
+        fails.append(f"{r.part} is end of life")
+    if not math.isfinite(r.unit_now) and not fails:
+        r.status, r.note = "no price", f"{r.part} has no catalogue price"
+        return
+    pick = _cheapest(kp, mask, price)
+    if fails:
+        r.note = "; ".join(fails)
+        if pick < 0:
+            r.status = "no fix"
+            r.note += "; no part qualifies in an accepted package"
+            return
+        r.status = "fix"
+    elif pick >= 0 and pick != inc and price[pick] < r.unit_now - EPS_MONEY:
+        r.status = "proposal"
+    else:
+        r.status, r.unit_after = "kept", r.unit_now
+        r.note = _why_kept(r, kp, mask, allowed, price, role)
+        return
+    r._proposal_pos = pick
+    r.proposal, r.proposal_maker = str(kp.part[pick]), str(kp.maker[pick])
+    r.proposal_package, r.unit_after = str(kp.package[pick]), float(price[pick])
+
+
+def _cheapest(kp: KindParts, mask: np.ndarray, price: np.ndarray) -> int:
+    """Lowest price in the mask; ties: preferred first, then part number."""
+    ok = np.flatnonzero(mask & np.isfinite(price))
+    if not ok.size:
+        return -1
+    order = np.lexsort((kp.part[ok], ~kp.preferred[ok], price[ok]))
+    return int(ok[order[0]])
+
+
+def _why_kept(r, kp, mask, allowed, price, role) -> str:
+    """Why no cheaper part: the cheapest cheaper part in an accepted package, and what it lacks."""
+    cheaper = np.flatnonzero(allowed & (price < r.unit_now - EPS_MONEY) & ~mask)
+    if not cheaper.size:
+        return "no cheaper part in an accepted package"
+    j = int(cheaper[np.lexsort((kp.part[cheaper], price[cheaper]))[0]])
+    if role is not None and role.get("mask") is not None and not role["mask"][j]:
+        why = "not feasible for " + ", ".join(role["roles"])
+    else:
+        why = kp.why_not(r._kind_pos, j) or "not a drop-in"
+    return f"{len(cheaper)} cheaper part(s) do not qualify; cheapest {kp.part[j]}: {why}"
+
+
+# -- consolidation ---------------------------------------------------------------------------
+
+def consolidate(results: list[LineResult], kinds: dict[str, KindParts], volume: int
+                ) -> tuple[list[Group], list[Group]]:
+    """One part for several lines of a kind, where it costs no more than the
+    line-by-line proposals: the part may replace each of them (its mask), and
+    it is priced at the combined quantity, volume x the lines' parts per board.
+
+    Greedy, per kind: among parts serving two or more remaining lines, take
+    the one that saves most against the line-by-line cost of those lines (ties:
+    more lines, preferred, part number); a line it serves at a higher cost than
+    that line's own proposal is left out when that saves more; repeat with the
+    lines left. Vectorised over the parts; the loop is over groups found.
+    """
+    groups: list[Group] = []
+    alternatives: list[Group] = []  # one part for all lines of a kind, where the plan differs
+    for kind, kp in kinds.items():
+        lines = [r for r in results if r.kind == kind and r._mask is not None and r.qty
+                 and math.isfinite(r.unit_now) and r.status in ("kept", "proposal", "fix")]
+        if len(lines) < 2:
+            continue
+        mask = np.vstack([r._mask for r in lines])
+        q = np.array([r.qty for r in lines], dtype=float)
+        now = np.array([r.cost_now for r in lines])
+        after = np.array([r.cost_after for r in lines])
+        cols_ = np.flatnonzero((mask.sum(axis=0) >= 2) & np.isfinite(kp.prices).any(axis=1))
+        if not cols_.size:
+            continue
+        m = mask[:, cols_]
+        prices = kp.prices[cols_]
+        remaining = np.ones(len(lines), dtype=bool)
+
+        def cost_of(member: np.ndarray, j: int) -> tuple[float, float]:
+            units = float(q[member].sum())
+            unit = float(pricing.unit_price_at(kp.breaks, prices[j:j + 1], volume * units)[0][0])
+            return unit, unit * units
+
+        weights = m.astype(np.float64)  # lines x parts, for the sums as matrix products
+        while remaining.sum() >= 2:
+            left = remaining.astype(np.float64)
+            counts, units, base = np.vstack([left, q * left, after * left]) @ weights
+            cand = np.flatnonzero(counts >= 2)
+            if not cand.size:
+                break
+            units, base = units[cand], base[cand]
+            unit = pricing.unit_price_at(kp.breaks, prices[cand], volume * units)[0]
+            gain = base - unit * units
+            ok = np.isfinite(gain) & (gain >= -EPS_MONEY)
+            if not ok.any():
+                break
+            cand, gain = cand[ok], gain[ok]
+            part = kp.part[cols_[cand]]
+            pick = np.lexsort((part, ~kp.preferred[cols_[cand]], -counts[cand], -gain))[0]
+            j, best_gain = int(cand[pick]), gain[pick]
+            member = m[:, j] & remaining
+            unit_j, cost_j = cost_of(member, j)
+            while True:  # leave out a line served dearer than its own proposal, if that pays
+                dear = member & (q * unit_j > after + EPS_MONEY)
+                if not dear.any():
+                    break
+                trial = member & ~dear
+                if trial.sum() < 2:
+                    break
+                t_unit, t_cost = cost_of(trial, j)
+                if after[trial].sum() - t_cost <= best_gain + EPS_MONEY:
+                    break
+                member, unit_j, cost_j = trial, t_unit, t_cost
+                best_gain = after[trial].sum() - t_cost
+            chosen = [lines[i] for i in np.flatnonzero(member)]
+            p = cols_[j]
+            groups.append(Group(kind, str(kp.part[p]), str(kp.maker[p]), str(kp.package[p]),
+                                [r.line.row for r in chosen], int(q[member].sum()), unit_j,
+                                float(now[member].sum()), float(after[member].sum()), cost_j))
+            remaining &= ~member
+        everything = np.flatnonzero(m.all(axis=0))  # one part for every line of the kind
+        if everything.size and not (len(groups) and groups[-1].kind == kind
+                                    and len(groups[-1].rows) == len(lines)):
+            units = float(q.sum())
+            unit = pricing.unit_price_at(kp.breaks, prices[everything], volume * units)[0]
+            pick = everything[np.lexsort((kp.part[cols_[everything]], unit))[0]]
+            u = float(pricing.unit_price_at(kp.breaks, prices[pick:pick + 1], volume * units)[0][0])
+            if math.isfinite(u) and u * units < now.sum() - EPS_MONEY:
+                p = cols_[pick]
+                alternatives.append(Group(kind, str(kp.part[p]), str(kp.maker[p]), str(kp.package[p]),
+                                          [r.line.row for r in lines], int(units), u, float(now.sum()),
+                                          float(after.sum()), u * units))
+    return groups, alternatives
