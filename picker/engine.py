@@ -20,7 +20,7 @@ import numpy as np
 import pandas as pd
 
 from picker.catalog import points as _catalog_points
-from picker.catalog import values
+from picker.catalog import values as _catalog_values
 from picker.models import bipolar, leakage, mosfet, pricing, thermal
 from picker.requirements import Requirements, Role
 
@@ -49,15 +49,77 @@ NOTE_FLAGS = {  # flag column -> note text
 }
 
 
-def points(parts: pd.DataFrame, prefix: str) -> tuple[np.ndarray, np.ndarray]:
-    """A point family as `picker.catalog.points` gives it, but never zero columns
-    wide: a catalogue without any such column (say, bipolar parts only, or no
-    prices) gets one all-blank column, so the models see "no point" (unknown)
-    instead of an empty array they cannot reduce."""
-    conditions, matrix = _catalog_points(parts, prefix)
-    if conditions.size == 0:
-        return np.array([np.nan]), np.full((len(parts), 1), np.nan)
-    return conditions, matrix
+class PartData:
+    """Catalogue rows as the models read them: each column turned into a float
+    array once and kept, so repeated evaluations of the same parts (the
+    lowest-supply search runs the engine some 40 times) pay for pandas once.
+    `take(rows)` gives the same for a subset without going back to pandas."""
+
+    def __init__(self, df: pd.DataFrame, memo: dict | None = None) -> None:
+        self.df = df
+        self.index = df.index
+        self._memo = memo if memo is not None else {}
+
+    def __len__(self) -> int:
+        return len(self.df)
+
+    def __contains__(self, name: str) -> bool:
+        return name in self.df
+
+    def __getitem__(self, name: str):
+        return self._get(("text", name), lambda: self.df[name])
+
+    def _get(self, key, make):
+        if key not in self._memo:
+            self._memo[key] = make()
+        return self._memo[key]
+
+    def values(self, name: str) -> np.ndarray:
+        return self._get(("values", name), lambda: _catalog_values(self.df, name))
+
+    def points(self, prefix: str) -> tuple[np.ndarray, np.ndarray]:
+        """A point family as `picker.catalog.points` gives it, but never zero
+        columns wide: a catalogue without any such column (say, bipolar parts
+        only, or no prices) gets one all-blank column, so the models see "no
+        point" (unknown) instead of an empty array they cannot reduce."""
+        def make():
+            conditions, matrix = _catalog_points(self.df, prefix)
+            if conditions.size == 0:
+                return np.array([np.nan]), np.full((len(self.df), 1), np.nan)
+            return conditions, matrix
+        return self._get(("points", prefix), make)
+
+    def fit(self) -> mosfet.OnResistanceFit:
+        """The on-resistance fit (models.md §1) of these parts."""
+        def make():
+            drives_V, rds_mohm = self.points("rds_on_mohm")
+            return mosfet.fit_on_resistance(drives_V, rds_mohm / 1000.0, self.values("vgs_th_max_V"))
+        return self._get(("fit",), make)
+
+    def take(self, rows: np.ndarray) -> "PartData":
+        """The same parts data for the rows at positions `rows`."""
+        memo = {}
+        for key, value in self._memo.items():
+            if key[0] == "values":
+                memo[key] = value[rows]
+            elif key[0] == "points":
+                memo[key] = (value[0], value[1][rows])
+            elif key[0] == "fit":
+                memo[key] = mosfet.OnResistanceFit(*(np.asarray(f)[rows] for f in (
+                    value.r_fix_ohm, value.k_ohm_V, value.lowest_drive_V, value.n_points)))
+        return PartData(self.df.iloc[rows], memo)
+
+
+def _data(parts) -> PartData:
+    return parts if isinstance(parts, PartData) else PartData(parts)
+
+
+def values(parts, name: str) -> np.ndarray:
+    return _data(parts).values(name)
+
+
+def points(parts, prefix: str) -> tuple[np.ndarray, np.ndarray]:
+    return _data(parts).points(prefix)
 
 
 def _check(ok: np.ndarray, known: np.ndarray) -> np.ndarray:
@@ -145,13 +207,14 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     """All catalogue parts of the role's kind: figures, checks, notes, rank."""
     mask = (catalog_df["kind"] == role.kind).to_numpy(dtype=bool)
     model_columns = [c for c in catalog_df.columns if c in MODEL_COLUMNS or "@" in c]
-    parts = catalog_df[model_columns] if mask.all() else catalog_df.loc[mask, model_columns]
+    parts = PartData(catalog_df[model_columns] if mask.all()
+                     else catalog_df.loc[mask, model_columns])
     # Columns are gathered in a dict and made a DataFrame once: inserting
     # some 45 columns one by one costs more than all the models together.
     if role.is_pass_switch:
-        out, checks, figures = _pass_switch_columns(parts, role, req), PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES
+        out, checks, figures = pass_switch_columns(parts, role, req), PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES
     else:
-        out, checks, figures = _saturated_switch_columns(parts, role, req), SWITCH_CHECKS, SWITCH_FIGURES
+        out, checks, figures = saturated_switch_columns(parts, role, req), SWITCH_CHECKS, SWITCH_FIGURES
         if role.max_vce_sat_V is None:
             checks = tuple(c for c in checks if c != "vce_sat")
     if role.max_off_current_A is None:
@@ -174,7 +237,7 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     return RoleResult(role, frame, order, checks, figures, catalog_df, mask)
 
 
-def _identity(parts: pd.DataFrame) -> dict:
+def _identity(parts: PartData) -> dict:
     """The descriptive columns every candidate row carries."""
     out: dict = {}
     for name in ("part", "maker", "package"):
@@ -186,18 +249,21 @@ def _identity(parts: pd.DataFrame) -> dict:
     return out
 
 
-def pass_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFrame:
+def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
     """models.md §6, high-side-pmos and low-side-nmos, at both corners (§5):
-    one row per part (index of `parts`), no price, no rank."""
-    return pd.DataFrame(_pass_switch_columns(parts, role, req), index=parts.index)
+    one row per part (index of `parts`, a DataFrame or PartData), no price,
+    no rank."""
+    parts = _data(parts)
+    return pd.DataFrame(pass_switch_columns(parts, role, req), index=parts.index)
 
 
-def _pass_switch_columns(parts: pd.DataFrame, role: Role, req: Requirements) -> dict:
+def pass_switch_columns(parts, role: Role, req: Requirements) -> dict:
+    """`pass_switch` as a dict of arrays (no DataFrame made)."""
+    parts = _data(parts)
     out = _identity(parts)
     load_A = role.load_A
     vt25_V = values(parts, "vgs_th_max_V")
-    drives_V, rds_mohm = points(parts, "rds_on_mohm")
-    fit = mosfet.fit_on_resistance(drives_V, rds_mohm / 1000.0, vt25_V)
+    fit = parts.fit()
     k_vt = np.abs(values(parts, "vgs_th_tc_mV/C")) / 1000.0  # NaN: the model's default
     a = values(parts, "rds_tc_pct/C") / 100.0
     rth = values(parts, "rth_ja_C/W")
@@ -286,13 +352,17 @@ def _tj_limit(tj_max_C: np.ndarray, role_max_C: float | None, margin_C: float) -
     return np.fmin(part_limit, role_max_C)
 
 
-def saturated_switch(parts: pd.DataFrame, role: Role, req: Requirements) -> pd.DataFrame:
+def saturated_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
     """models.md §6, npn-switch and pnp-switch: saturation at the cold corner;
-    one row per part (index of `parts`), no price, no rank."""
-    return pd.DataFrame(_saturated_switch_columns(parts, role, req), index=parts.index)
+    one row per part (index of `parts`, a DataFrame or PartData), no price,
+    no rank."""
+    parts = _data(parts)
+    return pd.DataFrame(saturated_switch_columns(parts, role, req), index=parts.index)
 
 
-def _saturated_switch_columns(parts: pd.DataFrame, role: Role, req: Requirements) -> dict:
+def saturated_switch_columns(parts, role: Role, req: Requirements) -> dict:
+    """`saturated_switch` as a dict of arrays (no DataFrame made)."""
+    parts = _data(parts)
     out = _identity(parts)
     ic_A = role.collector_current_A
     cold_C = req.ambient.min_C
@@ -338,7 +408,7 @@ def _saturated_switch_columns(parts: pd.DataFrame, role: Role, req: Requirements
     return out
 
 
-def _price(out: dict, parts: pd.DataFrame, role: Role, req: Requirements) -> None:
+def _price(out: dict, parts: PartData, role: Role, req: Requirements) -> None:
     """models.md §7: unit price at the quantity bought, cost per board."""
     breaks, prices = points(parts, "price")
     quantity = req.volume * role.parts_per_board

@@ -90,11 +90,17 @@ def at_supply(parts: pd.DataFrame, role: Role, req: Requirements, supply_V,
     `engine.pass_switch` / `engine.saturated_switch` (no price, no rank).
     Off-state figures come out at `ambient_C` too.
     """
+    data = engine.PartData(parts) if isinstance(parts, pd.DataFrame) else parts
+    return pd.DataFrame(_trial(data, role, req, supply_V, ambient_C), index=data.index)
+
+
+def _trial(data, role: Role, req: Requirements, supply_V, ambient_C: float) -> dict:
+    """`at_supply` as a dict of arrays, over prepared `engine.PartData`."""
     trial = dataclasses.replace(
         req, supply=dataclasses.replace(req.supply, min_V=supply_V),
         ambient=Ambient(ambient_C, ambient_C))
-    evaluate = engine.pass_switch if role.is_pass_switch else engine.saturated_switch
-    return evaluate(parts, role, trial)
+    evaluate = engine.pass_switch_columns if role.is_pass_switch else engine.saturated_switch_columns
+    return evaluate(data, role, trial)
 
 
 def verdict(table: pd.DataFrame, role: Role) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -105,17 +111,17 @@ def verdict(table: pd.DataFrame, role: Role) -> tuple[np.ndarray, np.ndarray, np
     those checks that does not pass ('' where all pass). unknown: the data to
     decide is missing.
     """
-    n = len(table)
+    n = len(table) if isinstance(table, pd.DataFrame) else len(table["part"])
     if role.is_pass_switch:
-        gate = table["check_gate_drive"].to_numpy()
-        drop = table["check_drop"].to_numpy()
-        tj = table["check_tj"].to_numpy()
+        gate = np.asarray(table["check_gate_drive"])
+        drop = np.asarray(table["check_drop"])
+        tj = np.asarray(table["check_tj"])
         works = (gate == PASS) & (drop == PASS) & (tj != FAIL)
         limit = np.where(gate != PASS, "gate_drive",
                          np.where(drop != PASS, "drop", np.where(tj == FAIL, "tj", "")))
         unknown = (gate == UNKNOWN) | ((gate == PASS) & (drop == UNKNOWN))
     else:
-        sat = table["check_saturation"].to_numpy()
+        sat = np.asarray(table["check_saturation"])
         works = sat == PASS
         limit = np.where(works, "", "saturation")
         unknown = sat == UNKNOWN
@@ -137,28 +143,29 @@ def solve_corner(parts: pd.DataFrame, role: Role, req: Requirements, corner: str
                         "limit": np.full(n, "", dtype=object)}, index=parts.index)
     if n == 0:
         return out
+    data = engine.PartData(parts)
     if not supply_driven(role):
-        works, limit, unknown = verdict(at_supply(parts, role, req, req.supply.min_V, ta_C), role)
+        works, limit, unknown = verdict(_trial(data, role, req, req.supply.min_V, ta_C), role)
         step()
         out["status"] = np.where(works, "any", np.where(unknown, "unknown", "never"))
         out["limit"] = np.where(works | unknown, "", limit)
         return out
 
     top = search_top_V(req)
-    works, limit, unknown = verdict(at_supply(parts, role, req, top, ta_C), role)
+    works, limit, unknown = verdict(_trial(data, role, req, top, ta_C), role)
     step()
     out["status"] = np.where(works, "found", np.where(unknown, "unknown", "never"))
     out["limit"] = np.where(works | unknown, "", limit)
     active = np.flatnonzero(works)
     if active.size == 0:
         return out
-    sub = parts.iloc[active]
+    sub = data.take(active)
     lo = np.zeros(active.size)
     hi = np.full(active.size, top)
     lo_limit = np.full(active.size, "", dtype=object)
     for _ in range(steps_for(top, tol_V)):
         mid = 0.5 * (lo + hi)
-        ok, why, _ = verdict(at_supply(sub, role, req, mid, ta_C), role)
+        ok, why, _ = verdict(_trial(sub, role, req, mid, ta_C), role)
         hi = np.where(ok, mid, hi)
         lo = np.where(ok, lo, mid)
         lo_limit = np.where(ok, lo_limit, why)
