@@ -89,6 +89,21 @@ class PartData:
             return conditions, matrix
         return self._get(("points", prefix), make)
 
+    def identity(self) -> dict:
+        """part, maker, package, preferred, status and the eol / nrnd flags."""
+        def make():
+            df, out = self.df, {}
+            for name in ("part", "maker", "package"):
+                out[name] = (df[name].to_numpy(dtype=object) if name in df
+                             else np.full(len(df), "", dtype=object))
+            out["preferred"] = df["preferred"].to_numpy(dtype=bool)
+            status = df["status"].to_numpy(dtype=object)
+            out["status"] = status
+            out["eol"] = status == "eol"
+            out["nrnd"] = status == "nrnd"
+            return out
+        return self._get(("identity",), make)
+
     def fit(self) -> mosfet.OnResistanceFit:
         """The on-resistance fit (models.md §1) of these parts."""
         def make():
@@ -104,6 +119,8 @@ class PartData:
                 memo[key] = value[rows]
             elif key[0] == "points":
                 memo[key] = (value[0], value[1][rows])
+            elif key[0] == "identity":
+                memo[key] = {name: column[rows] for name, column in value.items()}
             elif key[0] == "fit":
                 memo[key] = mosfet.OnResistanceFit(*(np.asarray(f)[rows] for f in (
                     value.r_fix_ohm, value.k_ohm_V, value.lowest_drive_V, value.n_points)))
@@ -238,15 +255,8 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
 
 
 def _identity(parts: PartData) -> dict:
-    """The descriptive columns every candidate row carries."""
-    out: dict = {}
-    for name in ("part", "maker", "package"):
-        out[name] = parts[name] if name in parts else ""
-    out["preferred"] = parts["preferred"].to_numpy(dtype=bool)
-    out["status"] = parts["status"]
-    out["eol"] = (parts["status"] == "eol").to_numpy(dtype=bool)
-    out["nrnd"] = (parts["status"] == "nrnd").to_numpy(dtype=bool)
-    return out
+    """The descriptive columns every candidate row carries (a fresh dict)."""
+    return dict(parts.identity())
 
 
 def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:

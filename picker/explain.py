@@ -209,14 +209,13 @@ def choose_report(design: DesignResult, *, top: int = 5, show_all: bool = False)
         elif len(r.feasible) > len(feasible):
             caption.append(f"{len(r.feasible) - len(feasible)} more feasible parts "
                            "(--top N or --all to see them)")
-        low = _lowest_supply(feasible, r, req)
-        sections.append(Section(_role_heading(r, req), columns, _display_rows(feasible, r, low),
-                                caption=caption))
         rejected = r.rejected.assign(_cost=r.rejected["cost"].fillna(np.inf))
         rejected = rejected.sort_values(["_cost", "part"], kind="stable")
         if not show_all:
             rejected = rejected.head(top)
-        low = _lowest_supply(rejected, r, req)
+        low = _lowest_supply(pd.concat([feasible, rejected]), r, req)  # one search for both
+        sections.append(Section(_role_heading(r, req), columns, _display_rows(feasible, r, low),
+                                caption=caption))
         rows = [{"part": row["part"], "package": row["package"], "cost": row["cost"],
                  "why": "; ".join(reasons(row, r, req) + _lowest_reason(low, index, r, req))}
                 for index, row in rejected.iterrows()]

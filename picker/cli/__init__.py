@@ -2,8 +2,6 @@
 and hands the result to the one renderer. Heavy modules (pandas, numpy,
 rapidfuzz) are imported inside the commands that need them."""
 
-from __future__ import annotations
-
 import os
 import sys
 

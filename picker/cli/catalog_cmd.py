@@ -1,7 +1,5 @@
 """`picker catalog ...`: check, browse."""
 
-from __future__ import annotations
-
 from typing import Annotated, List, Optional
 
 import typer

@@ -1,7 +1,5 @@
 """`picker choose`: the main job."""
 
-from __future__ import annotations
-
 import dataclasses
 from typing import Annotated, Optional
 

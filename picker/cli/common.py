@@ -1,7 +1,5 @@
 """Options and helpers every command shares."""
 
-from __future__ import annotations
-
 import os
 import sys
 from contextlib import contextmanager

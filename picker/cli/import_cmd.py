@@ -5,8 +5,6 @@ values converted to the catalogue's units, compared with the catalogue,
 checked with the catalogue loader, written atomically with a `.bak`.
 """
 
-from __future__ import annotations
-
 import os
 from typing import Annotated, List, Optional
 

@@ -1,8 +1,6 @@
 """`picker lineup` (finalists side by side) and `picker curve` (how they behave
 as the cell runs down, and how their fit looks)."""
 
-from __future__ import annotations
-
 import sys
 from enum import Enum
 from typing import Annotated, List, Optional

@@ -4,8 +4,6 @@ volume without giving anything up; the BOM file itself is never written.
 The command parses options, calls `picker.bom` and `picker.review`, and turns
 the result into one `Report` for the renderer (table, CSV or JSON)."""
 
-from __future__ import annotations
-
 import math
 import os
 import re
