@@ -213,7 +213,10 @@ def _after_preamble(path, data, table, found, known):
         if not lines[k].strip():
             continue
         for delimiter in (",", ";", "\t"):
-            cells = next(csv.reader([lines[k]], delimiter=delimiter), [])
+            try:
+                cells = next(csv.reader([lines[k]], delimiter=delimiter), [])
+            except csv.Error:  # e.g. a field past the csv module's size limit: not a header
+                continue
             candidate = map_header([c.strip() for c in cells])
             if len(cells) > 1 and _usable(candidate):
                 rest = "".join(lines[k:]).encode("utf-8")

@@ -21,7 +21,7 @@ import numpy as np
 import pandas as pd
 
 from picker import columns as cols
-from picker.errors import CatalogError, QuantityError
+from picker.errors import CatalogError, QuantityError, one_line
 from picker.quantities import parse_quantity
 from picker.tabular import read_bytes, read_table
 
@@ -44,7 +44,7 @@ class Problem:
 
     def __str__(self) -> str:
         where = ":".join(str(p) for p in (self.file, self.line, self.column) if p is not None)
-        return f"{where}: {self.severity}: {self.message}"
+        return one_line(f"{where}: {self.severity}: {self.message}")
 
 
 @dataclass

@@ -6,6 +6,18 @@ message from those fields, so the CLI can print it as is and exit 2.
 
 from __future__ import annotations
 
+import re
+
+# Line breaks and other control characters a message may quote from the user's
+# file (a quoted cell may hold a line break; a cell may hold an escape sequence
+# a terminal would act on): written as escapes, so a message stays one line.
+_CONTROL = re.compile(r"[\x00-\x08\x0a-\x1f\x7f-\x9f\u2028\u2029]")
+
+
+def one_line(text: str) -> str:
+    """`text` with line breaks and control characters written as escapes ('\\n')."""
+    return _CONTROL.sub(lambda m: repr(m.group())[1:-1], text)
+
 
 class PickerError(Exception):
     """Base of every error picker reports to the user (exit code 2)."""
@@ -34,7 +46,7 @@ class PickerError(Exception):
     def __str__(self) -> str:
         where = self.where()
         text = f"{where}: {self.message}" if where else self.message
-        return f"{text} ({self.hint})" if self.hint else text
+        return one_line(f"{text} ({self.hint})" if self.hint else text)
 
     def located(self, *, file=None, line=None, column=None) -> "PickerError":
         """Fill in the location fields that are still unknown; returns self."""

@@ -185,7 +185,10 @@ def parse_quantity(text: str | float | int, unit: str = "1", *, decimal_comma: b
     if isinstance(text, bool):
         raise QuantityError(f"'{text}' is not a number; expected {_expected(unit)}")
     if isinstance(text, (int, float)):
-        value = float(text)
+        try:
+            value = float(text)
+        except OverflowError:  # an int beyond a float's range (TOML allows any size)
+            value = float("inf")
         if value != value or value in (float("inf"), float("-inf")):
             raise QuantityError(f"'{text}' is not a finite number; expected {_expected(unit)}")
         return value

@@ -95,7 +95,10 @@ def detect_delimiter(header_line: str, known: set[str] | None = None) -> str:
     """The separator of a header line: the candidate that splits it into the
     most fields, ties broken by how many fields are known column names."""
     def score(delim: str) -> tuple[int, int]:
-        fields = next(csv.reader([header_line], delimiter=delim), [])
+        try:
+            fields = next(csv.reader([header_line], delimiter=delim), [])
+        except csv.Error:  # a field past the csv module's size limit: count plainly
+            fields = header_line.split(delim)
         hits = sum(1 for f in fields if known and f.strip().lower() in known)
         return (hits, len(fields))
     return max(DELIMITERS, key=lambda d: (score(d)[0], score(d)[1], -DELIMITERS.index(d)))
@@ -152,6 +155,8 @@ def _read_plain(data: bytes, text: str, delimiter: str):
     if len(ends) == 0 or ends[-1] != len(codes) - 1:
         ends = np.append(ends, len(codes))
     starts = np.concatenate(([0], ends[:-1] + 1))
+    if (ends - starts).max() > csv.field_size_limit():
+        return None  # a line that may hold an over-long cell: the general reader decides
     at = np.flatnonzero(codes == ord(delimiter))
     separators = np.searchsorted(at, ends) - np.searchsorted(at, starts)
     returns = (ends > starts) & (codes[np.maximum(ends - 1, 0)] == 13)
@@ -212,6 +217,10 @@ def _read_general(text: str, delimiter: str, path: str, error, what: str):
             if len(row_lines) > MAX_ROWS:
                 break
     except csv.Error as exc:
+        if "field limit" in str(exc):
+            raise error(f"a cell is longer than {csv.field_size_limit():,} characters (a quote "
+                        "that is never closed?); picker reads cells up to that length",
+                        file=path, line=line_before + 1) from None
         raise error(f"the CSV structure is broken: {exc}", file=path, line=reader.line_num) from None
     if header is None:  # only separators and spaces
         raise error(f"the {what} file has no header line (only empty fields)", file=path)
