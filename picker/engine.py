@@ -288,6 +288,9 @@ def pass_switch_columns(parts, role: Role, req: Requirements) -> dict:
 
     corners = {}
     for corner, ta_C in (("cold", req.ambient.min_C), ("hot", req.ambient.max_C)):
+        if corner == "hot" and np.array_equal(ta_C, req.ambient.min_C):
+            corners["hot"] = corners["cold"]  # one ambient (the lowest-supply search): same figures
+            break
         vt_V = mosfet.threshold_at(vt25_V, ta_C, k_vt)
         tj_C, converged = thermal.solve_junction_temperature(
             ta_C, load_A, rth, lambda t_C, rows: resistance_of(rows, t_C))

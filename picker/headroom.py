@@ -136,43 +136,50 @@ def solve_corner(parts: pd.DataFrame, role: Role, req: Requirements, corner: str
     Returns a DataFrame indexed like `parts` with `V` (NaN unless found),
     `status` and `limit` (see the module docstring).
     """
-    n = len(parts)
-    ta_C = corner_temperature(req, corner)
-    step = on_step or (lambda: None)
-    out = pd.DataFrame({"V": np.full(n, np.nan), "status": np.full(n, "unknown", dtype=object),
-                        "limit": np.full(n, "", dtype=object)}, index=parts.index)
+    V, status, limit = _solve(engine.PartData(parts), role, req, corner_temperature(req, corner),
+                              tol_V, on_step or (lambda: None))
+    return pd.DataFrame({"V": V, "status": status, "limit": limit}, index=parts.index)
+
+
+def _solve(data, role: Role, req: Requirements, ta_C, tol_V: float, step):
+    """(V, status, limit) arrays for every row of `data` (engine.PartData) at
+    ambient `ta_C` (a scalar, or one temperature per row: both corners can be
+    solved in one pass over the parts stacked twice)."""
+    n = len(data)
+    V = np.full(n, np.nan)
+    status = np.full(n, "unknown", dtype=object)
+    limit = np.full(n, "", dtype=object)
     if n == 0:
-        return out
-    data = engine.PartData(parts)
+        return V, status, limit
     if not supply_driven(role):
-        works, limit, unknown = verdict(_trial(data, role, req, req.supply.min_V, ta_C), role)
+        works, why, unknown = verdict(_trial(data, role, req, req.supply.min_V, ta_C), role)
         step()
-        out["status"] = np.where(works, "any", np.where(unknown, "unknown", "never"))
-        out["limit"] = np.where(works | unknown, "", limit)
-        return out
+        return V, np.where(works, "any", np.where(unknown, "unknown", "never")), \
+            np.where(works | unknown, "", why)
 
     top = search_top_V(req)
-    works, limit, unknown = verdict(_trial(data, role, req, top, ta_C), role)
+    works, why, unknown = verdict(_trial(data, role, req, top, ta_C), role)
     step()
-    out["status"] = np.where(works, "found", np.where(unknown, "unknown", "never"))
-    out["limit"] = np.where(works | unknown, "", limit)
+    status = np.where(works, "found", np.where(unknown, "unknown", "never")).astype(object)
+    limit = np.where(works | unknown, "", why).astype(object)
     active = np.flatnonzero(works)
     if active.size == 0:
-        return out
+        return V, status, limit
     sub = data.take(active)
+    sub_ta = ta_C if np.ndim(ta_C) == 0 else np.asarray(ta_C)[active]
     lo = np.zeros(active.size)
     hi = np.full(active.size, top)
     lo_limit = np.full(active.size, "", dtype=object)
     for _ in range(steps_for(top, tol_V)):
         mid = 0.5 * (lo + hi)
-        ok, why, _ = verdict(_trial(sub, role, req, mid, ta_C), role)
+        ok, why, _ = verdict(_trial(sub, role, req, mid, sub_ta), role)
         hi = np.where(ok, mid, hi)
         lo = np.where(ok, lo, mid)
         lo_limit = np.where(ok, lo_limit, why)
         step()
-    out.iloc[active, out.columns.get_loc("V")] = hi
-    out.iloc[active, out.columns.get_loc("limit")] = lo_limit
-    return out
+    V[active] = hi
+    limit[active] = lo_limit
+    return V, status, limit
 
 
 def steps_for(top_V: float, tol_V: float) -> int:
@@ -181,9 +188,9 @@ def steps_for(top_V: float, tol_V: float) -> int:
 
 
 def evaluations(role: Role, req: Requirements, tol_V: float = TOL_V) -> int:
-    """How many engine evaluations `lowest_supply` makes (for a progress bar)."""
-    per_corner = 1 + (steps_for(search_top_V(req), tol_V) if supply_driven(role) else 0)
-    return len(CORNERS) * per_corner
+    """How many engine evaluations `lowest_supply` makes (for a progress bar):
+    both corners are solved together, the parts stacked twice."""
+    return 1 + (steps_for(search_top_V(req), tol_V) if supply_driven(role) else 0)
 
 
 def lowest_supply(parts: pd.DataFrame, role: Role, req: Requirements, *,
@@ -199,7 +206,14 @@ def lowest_supply(parts: pd.DataFrame, role: Role, req: Requirements, *,
     after each engine evaluation (`evaluations()` in all).
     """
     out = pd.DataFrame(index=parts.index)
-    solved = {c: solve_corner(parts, role, req, c, tol_V=tol_V, on_step=on_step) for c in CORNERS}
+    n = len(parts)
+    data = engine.PartData(parts)
+    both = data.take(np.concatenate([np.arange(n), np.arange(n)]))
+    ta_C = np.concatenate([np.full(n, req.ambient.min_C), np.full(n, req.ambient.max_C)])
+    V, status, limit = _solve(both, role, req, ta_C, tol_V, on_step or (lambda: None))
+    solved = {c: pd.DataFrame({"V": V[i * n:(i + 1) * n], "status": status[i * n:(i + 1) * n],
+                               "limit": limit[i * n:(i + 1) * n]}, index=parts.index)
+              for i, c in enumerate(CORNERS)}
     for c, s in solved.items():
         out[f"lowest_supply_{c}_V"] = s["V"]
         out[f"lowest_supply_{c}_status"] = s["status"]

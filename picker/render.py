@@ -157,7 +157,9 @@ def _render_table(report: Report, out, width: int | None) -> None:
 
     if width is None and not (hasattr(out, "isatty") and out.isatty()):
         width = 10_000  # not a terminal: never fold; tables take their natural width
-    console = Console(file=out, width=width, highlight=False, soft_wrap=False)
+    # markup off: a part number with brackets is printed as written
+    console = Console(file=out, width=width, highlight=False, soft_wrap=False, markup=False,
+                      emoji=False)
     for section in report.sections:
         table = Table(title=section.title, title_justify="left", box=box.SIMPLE_HEAD,
                       title_style="bold", pad_edge=False)
@@ -169,7 +171,7 @@ def _render_table(report: Report, out, width: int | None) -> None:
             cells = []
             for c in section.columns:
                 text = table_cell(row.get(c.key), c)
-                cells.append(Text(text, style="bold" if (i, c.key) in section.bold else ""))
+                cells.append(Text(text, style="bold") if (i, c.key) in section.bold else text)
             table.add_row(*cells)
         if section.rows:
             console.print(table)

@@ -19,7 +19,6 @@ the upper end, so it lies between the exact boundary and 10 µV above it
 from __future__ import annotations
 
 import dataclasses
-import time
 
 import numpy as np
 import pytest
@@ -210,8 +209,8 @@ def test_demo_roles_agree_with_the_engine_either_side():
 
 def test_solved_for_the_whole_catalogue_at_once(tmp_path):
     """The solve is vectorised: the number of engine evaluations is fixed by
-    the bisection (2 corners × (1 + 20 halvings)), not by the number of parts,
-    and 5,000 parts take well under the time of 5,000 separate solves."""
+    the bisection (1 + 20 halvings, both corners stacked in each evaluation),
+    not by the number of parts. (Its speed is measured in scripts/, not here.)"""
     rng = np.random.default_rng(7)
     n = 5000
     vt = rng.uniform(0.4, 1.5, n).round(2)
@@ -223,11 +222,8 @@ def test_solved_for_the_whole_catalogue_at_once(tmp_path):
     req = load_requirements(EXAMPLES / "kettlewick-power.toml")
     role = req.role("cell-switch")
     calls = []
-    start = time.perf_counter()
     low = headroom.lowest_supply(df, role, req, on_step=lambda: calls.append(1))
-    elapsed = time.perf_counter() - start
-    assert len(calls) == headroom.evaluations(role, req) == 2 * (1 + 20)
-    assert elapsed < 20  # generous for a slow CI machine; about 0.3 s on a laptop
+    assert len(calls) == headroom.evaluations(role, req) == 1 + 20
     # spot-check a sample against the engine
     found = low[low["lowest_supply_status"] == "found"]
     assert len(found) > 100
