@@ -193,21 +193,18 @@ def test_drop_in_rule_errors(tmp_path, call, error):
         call(_catalogue(tmp_path, "npn", {}))
 
 
-def test_drop_in_screen_is_vectorised_over_the_catalogue(tmp_path):
-    """The screen of one incumbent against 20,000 parts takes milliseconds (no
-    Python loop over parts)."""
-    import time
-
+def test_drop_in_screen_covers_a_large_catalogue_in_one_call(tmp_path):
+    """One incumbent screened against 20,000 copies of a qualifying part: one
+    boolean per part comes back, all true. (Speed is measured by
+    scripts/bench_review.py, not here.)"""
     from picker.review import KindParts
 
     df = _catalogue(tmp_path, "npn", {})
     big = df.iloc[np.r_[0, np.ones(20_000, dtype=int)]].reset_index(drop=True)
     big["part"] = [f"P{i}" for i in range(len(big))]
     kp = KindParts(big, np.arange(len(big)), "npn")
-    start = time.perf_counter()
     mask = kp.drop_in(0)
-    assert time.perf_counter() - start < 0.5
-    assert mask.all()
+    assert mask.shape == (len(big),) and mask.all()
 
 
 # -- savings arithmetic ---------------------------------------------------------------------
