@@ -150,13 +150,18 @@ def _union(groups: Iterable[list[Column]]) -> list[Column]:
 
 
 def _render_table(report: Report, out, width: int | None) -> None:
+    """Tables on a terminal through rich (fitted to its width, best values in
+    bold); to a pipe or a file, the same layout written directly: no styles
+    to show there, no width to fit, and a tenth of the time."""
+    terminal = hasattr(out, "isatty") and out.isatty()
+    if not terminal and width is None:
+        _plain_tables(report, out)
+        return
     from rich import box
     from rich.console import Console
     from rich.table import Table
     from rich.text import Text
 
-    if width is None and not (hasattr(out, "isatty") and out.isatty()):
-        width = 10_000  # not a terminal: never fold; tables take their natural width
     # markup off: a part number with brackets is printed as written
     console = Console(file=out, width=width, highlight=False, soft_wrap=False, markup=False,
                       emoji=False)
@@ -183,3 +188,34 @@ def _render_table(report: Report, out, width: int | None) -> None:
             console.print()
     for line in report.notes:
         console.print(Text(line))
+
+
+def _plain_tables(report: Report, out) -> None:
+    """The table layout in plain text: a title line, the header, a rule, the
+    rows (numbers right-aligned), then the captions and the notes."""
+    for section in report.sections:
+        if section.rows:
+            cells = [[table_cell(row.get(c.key), c) for c in section.columns] for row in section.rows]
+            titles = [c.title for c in section.columns]
+            widths = [max(len(t), *(len(r[i]) for r in cells)) for i, t in enumerate(titles)]
+            right = [bool(c.unit or c.numeric) for c in section.columns]
+
+            def line(values: list[str]) -> str:
+                return " " + "   ".join(v.rjust(w) if r else v.ljust(w)
+                                        for v, w, r in zip(values, widths, right)).rstrip()
+
+            if section.title:
+                out.write(section.title + "\n")
+            out.write(line(titles) + "\n")
+            out.write(" " + "─" * (sum(widths) + 3 * (len(widths) - 1)) + "\n")
+            for r in cells:
+                out.write(line(r) + "\n")
+            out.write("\n")
+        elif section.title:
+            out.write(section.title + "\n")
+        for caption in section.caption:
+            out.write(caption + "\n")
+        if section.caption:
+            out.write("\n")
+    for note in report.notes:
+        out.write(note + "\n")
