@@ -22,6 +22,7 @@ import pandas as pd
 from picker.catalog import points as _catalog_points
 from picker.catalog import values as _catalog_values
 from picker.models import bipolar, leakage, mosfet, pricing, thermal
+from picker.models._defaults import or_default
 from picker.requirements import Requirements, Role
 
 PASS, FAIL, UNKNOWN = 1, 0, -1
@@ -92,15 +93,15 @@ class PartData:
     def identity(self) -> dict:
         """part, maker, package, preferred, status and the eol / nrnd flags."""
         def make():
+            # Text columns stay in the catalogue's own arrays (no conversion
+            # of a million strings); only the flags are computed.
             df, out = self.df, {}
-            for name in ("part", "maker", "package"):
-                out[name] = (df[name].to_numpy(dtype=object) if name in df
+            for name in ("part", "maker", "package", "status"):
+                out[name] = (df[name].array if name in df
                              else np.full(len(df), "", dtype=object))
             out["preferred"] = df["preferred"].to_numpy(dtype=bool)
-            status = df["status"].to_numpy(dtype=object)
-            out["status"] = status
-            out["eol"] = status == "eol"
-            out["nrnd"] = status == "nrnd"
+            out["eol"] = (df["status"] == "eol").to_numpy(dtype=bool)
+            out["nrnd"] = (df["status"] == "nrnd").to_numpy(dtype=bool)
             return out
         return self._get(("identity",), make)
 
@@ -249,7 +250,7 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     out["feasible"] = feasible
     out["n_fail"] = n_fail
     out["n_unknown"] = n_unknown
-    frame = pd.DataFrame(out, index=parts.index)
+    frame = pd.DataFrame(out, index=parts.index, copy=False)  # fresh arrays: no copy
     order = rank(frame, role)
     return RoleResult(role, frame, order, checks, figures, catalog_df, mask)
 
@@ -274,17 +275,22 @@ def pass_switch_columns(parts, role: Role, req: Requirements) -> dict:
     load_A = role.load_A
     vt25_V = values(parts, "vgs_th_max_V")
     fit = parts.fit()
-    k_vt = np.abs(values(parts, "vgs_th_tc_mV/C")) / 1000.0  # NaN: the model's default
-    a = values(parts, "rds_tc_pct/C") / 100.0
+    # Per-part coefficients, or the model's default where the catalogue has
+    # none (a plain number when no part overrides it: nothing to index then).
+    k_vt = or_default(np.abs(values(parts, "vgs_th_tc_mV/C")) / 1000.0, mosfet.K_VT_V_PER_C)
+    a = or_default(values(parts, "rds_tc_pct/C") / 100.0, mosfet.RDS_TC_PER_C)
     rth = values(parts, "rth_ja_C/W")
     drive_V = req.supply.min_V if role.gate_drive_V is None else role.gate_drive_V
     vgs_V = drive_V - role.gate_drive_drop_V
 
+    def pick(value, rows):
+        return value if np.ndim(value) == 0 else value[rows]
+
     def resistance_of(rows, t_C):
         # supply.min may also be one value per part (picker.headroom solves with that)
-        vg_V = vgs_V if np.ndim(vgs_V) == 0 else vgs_V[rows]
-        return mosfet.on_resistance(vg_V, t_C, fit.r_fix_ohm[rows], fit.k_ohm_V[rows],
-                                    vt25_V[rows], k_vt[rows], a[rows])
+        return mosfet.on_resistance(pick(vgs_V, rows), t_C, fit.r_fix_ohm[rows],
+                                    fit.k_ohm_V[rows], vt25_V[rows], pick(k_vt, rows),
+                                    pick(a, rows))
 
     corners = {}
     for corner, ta_C in (("cold", req.ambient.min_C), ("hot", req.ambient.max_C)):
@@ -315,7 +321,8 @@ def pass_switch_columns(parts, role: Role, req: Requirements) -> dict:
     out["drop_cold_V"] = np.where(on, load_A * cold["rds"], np.nan)
     out["drop_hot_V"] = np.where(on, load_A * hot["rds"], np.nan)
     out["loss_W"] = load_A ** 2 * rds
-    out["corner"] = np.where(np.isfinite(rds), np.where(hot_worse, "hot", "cold"), None)
+    out["corner"] = pd.Categorical.from_codes(  # 'cold' / 'hot'; NaN where no drop is known
+        np.where(np.isfinite(rds), hot_worse.astype(np.int8), -1), categories=["cold", "hot"])
     out["check_drop"] = _limit_check(out["drop_V"], role.max_drop_V)
 
     # Junction temperature: the worse corner (the hot one, as Ta is higher).
@@ -435,25 +442,26 @@ def _price(out: dict, parts: PartData, role: Role, req: Requirements) -> None:
 
 def rank(out: pd.DataFrame, role: Role) -> np.ndarray:
     """models.md §8: feasible by cost, then preferred first, then drop (or
-    Vce(sat)); then feasible parts with no price; then the rest, fewest failed
-    checks first. Remaining ties: cost, then catalogue order, for a stable
-    order. Adds a `rank` column to `out` (1 = best) and returns the row
-    positions best first."""
-    if out.empty:
-        out["rank"] = np.zeros(0, dtype=np.int64)
-        return np.zeros(0, dtype=np.int64)
-    feasible = out["feasible"].to_numpy()
-    priced = np.isfinite(out["cost"].to_numpy())
-    group = np.where(feasible & priced, 0, np.where(feasible, 1, 2))
-    figure = out["drop_V" if role.is_pass_switch else "vce_sat_V"].to_numpy(dtype=float)
+    Vce(sat)); then feasible parts with no price (preferred, then drop); then
+    the rest, fewest failed checks first, then by cost. Remaining ties keep
+    catalogue order. Adds a `rank` column to `out` (1 = best) and returns the
+    row positions best first."""
+    feasible = out["feasible"].to_numpy(dtype=bool)
     cost = np.nan_to_num(out["cost"].to_numpy(dtype=float), nan=np.inf)
-    n_fail = np.where(group == 2, out["n_fail"].to_numpy(), 0)  # < 100: a handful of checks
-    order = np.lexsort((
-        np.nan_to_num(figure, nan=np.inf),
-        ~out["preferred"].to_numpy(dtype=bool),
-        cost,
-        group * 100 + n_fail,  # group first, then fewest failures: one sort key, one pass
-    ))
+    priced = np.isfinite(cost)
+    figure = np.nan_to_num(out["drop_V" if role.is_pass_switch else "vce_sat_V"]
+                           .to_numpy(dtype=float), nan=np.inf)
+    not_preferred = ~out["preferred"].to_numpy(dtype=bool)
+    chosen = np.flatnonzero(feasible & priced)
+    unpriced = np.flatnonzero(feasible & ~priced)
+    rest = np.flatnonzero(~feasible)
+    # np.lexsort: the last key first; every sort is stable, so ties keep row order
+    chosen = chosen[np.lexsort((figure[chosen], not_preferred[chosen], cost[chosen]))]
+    unpriced = unpriced[np.lexsort((figure[unpriced], not_preferred[unpriced]))]
+    rest = rest[np.argsort(cost[rest], kind="stable")]  # most parts are here: two cheap sorts
+    n_fail = out["n_fail"].to_numpy()[rest].astype(np.int16)  # a handful of checks
+    rest = rest[np.argsort(n_fail, kind="stable")]
+    order = np.concatenate((chosen, unpriced, rest))
     rank_of_row = np.empty(len(order), dtype=np.int64)
     rank_of_row[order] = np.arange(1, len(order) + 1)
     out["rank"] = rank_of_row

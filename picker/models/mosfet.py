@@ -54,20 +54,31 @@ def fit_on_resistance(drive_V, rds_ohm, vt_V) -> OnResistanceFit:
     - one point: ``R_fix = 0``, ``K = R_1 (V_1 - Vt)`` (= SxR / Sxx).
     - no point, NaN threshold, or any point with ``V_i <= Vt``: NaN.
     """
-    drive_V, rds_ohm = np.broadcast_arrays(np.atleast_2d(np.asarray(drive_V, dtype=float)),
-                                           np.atleast_2d(np.asarray(rds_ohm, dtype=float)))
-    vt_V = np.asarray(vt_V, dtype=float)
-    vt_col = vt_V[:, None] if vt_V.ndim else vt_V
-
-    used = np.isfinite(drive_V) & np.isfinite(rds_ohm)
-    n = used.sum(axis=1)
-    # a point at or below Vt is a catalogue error: no fit through it
-    bad = (n == 0) | np.isnan(vt_V) | np.any(used & ~(drive_V > vt_col), axis=1)
-
+    rds_ohm = np.atleast_2d(np.asarray(rds_ohm, dtype=float))
+    drive_V = np.asarray(drive_V, dtype=float)
+    vt_V = np.broadcast_to(np.asarray(vt_V, dtype=float), rds_ohm.shape[:1])
+    n_parts, m = rds_ohm.shape
+    # One point (column) at a time over all parts: the sums run down short rows,
+    # which numpy does slowly; column by column they are plain vector adds, in
+    # the same order, so the results are the same to the last bit.
+    n = np.zeros(n_parts, dtype=np.int64)
+    sx, sxx, sr, sxr = (np.zeros(n_parts) for _ in range(4))
+    below_vt = np.zeros(n_parts, dtype=bool)
+    lowest = np.full(n_parts, np.inf)
     with np.errstate(divide="ignore", invalid="ignore"):
-        x = np.where(used, 1.0 / (drive_V - vt_col), 0.0)  # garbage only in `bad` rows
-        r = np.where(used, rds_ohm, 0.0)
-        sx, sxx, sr, sxr = x.sum(1), (x * x).sum(1), r.sum(1), (x * r).sum(1)
+        for j in range(m):
+            v = drive_V[j] if drive_V.ndim == 1 else drive_V[:, j]
+            r = rds_ohm[:, j]
+            used = np.isfinite(v) & np.isfinite(r)
+            below_vt |= used & ~(v > vt_V)  # a point at or below Vt: a catalogue error
+            x = np.where(used, 1.0 / (v - vt_V), 0.0)  # garbage only in `bad` rows
+            r = np.where(used, r, 0.0)
+            if j == 0:
+                n, sx, sxx, sr, sxr = used.astype(np.int64), x, x * x, r, x * r
+            else:
+                n, sx, sxx, sr, sxr = n + used, sx + x, sxx + x * x, sr + r, sxr + x * r
+            lowest = np.where(used, np.minimum(lowest, v), lowest)
+        bad = (n == 0) | np.isnan(vt_V) | below_vt
         k_origin = sxr / sxx
         den = n * sxx - sx * sx
         spread = (n >= 2) & (den > 1e-12 * n * sxx)
@@ -81,7 +92,6 @@ def fit_on_resistance(drive_V, rds_ohm, vt_V) -> OnResistanceFit:
     k = np.where(free, k_free, np.where(k_neg, 0.0, k_origin))
     r_fix = np.where(free, r_free, np.where(k_neg, mean_r, 0.0))
 
-    lowest = np.min(np.where(used, drive_V, np.inf), axis=1)
     return OnResistanceFit(
         r_fix_ohm=np.where(bad, np.nan, r_fix),
         k_ohm_V=np.where(bad, np.nan, k),

@@ -38,6 +38,7 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
     bound_C = RUNAWAY_BOUND_C if tj_limit_C is None else tj_limit_C
     ta_C, current_A, rth_C_per_W = np.broadcast_arrays(
         *(np.atleast_1d(np.asarray(v, dtype=float)) for v in (ta_C, current_A, rth_C_per_W)))
+    heat_C_per_ohm = current_A ** 2 * rth_C_per_W  # Tj = Ta + heat * R
     no_rth = np.isnan(rth_C_per_W)
     tj_C = ta_C.copy()
     converged = no_rth.copy()
@@ -50,28 +51,28 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
         for step in range(max_steps):
             if idx is None and np.count_nonzero(active) < active.size // 2:
                 idx = np.flatnonzero(active)
-            rows = slice(None) if idx is None else idx
             if idx is not None and idx.size == 0 or idx is None and not active.any():
                 break
-            if by_index:
-                rds_ohm = np.asarray(resistance_at(tj_C[rows], rows), dtype=float)
-            else:
-                rds_ohm = np.asarray(resistance_at(tj_C), dtype=float)[rows]
-            new_C = ta_C[rows] + current_A[rows] ** 2 * rds_ohm * rth_C_per_W[rows]
-            moving = active[rows] if idx is None else np.ones(idx.size, dtype=bool)
-            lost = moving & ~np.isfinite(new_C)
-            if step == 0:
-                tj_C[rows] = np.where(lost, np.nan, tj_C[rows])  # R unknown from the start
-            step_C = np.abs(new_C - tj_C[rows])
-            keep = moving & ~lost
-            settled = keep & (step_C < tol_C)
-            still = keep & ~settled & ~(new_C > bound_C)
-            if idx is None:
+            if idx is None:  # every part at once
+                rds_ohm = np.asarray(resistance_at(tj_C, slice(None)) if by_index
+                                     else resistance_at(tj_C), dtype=float)
+                new_C = ta_C + heat_C_per_ohm * rds_ohm
+                lost = active & ~np.isfinite(new_C)
+                if step == 0:
+                    tj_C = np.where(lost, np.nan, tj_C)  # R unknown from the start
+                keep = active & ~lost
+                settled = keep & (np.abs(new_C - tj_C) < tol_C)
                 tj_C = np.where(keep, new_C, tj_C)
                 converged |= settled
-                active = still
-            else:
+                active = keep & ~settled & ~(new_C > bound_C)
+            else:  # the parts still moving
+                tj_now = tj_C[idx]
+                rds_ohm = np.asarray(resistance_at(tj_now, idx) if by_index
+                                     else resistance_at(tj_C)[idx], dtype=float)
+                new_C = ta_C[idx] + heat_C_per_ohm[idx] * rds_ohm
+                keep = np.isfinite(new_C)
+                settled = keep & (np.abs(new_C - tj_now) < tol_C)
                 tj_C[idx[keep]] = new_C[keep]
                 converged[idx[settled]] = True
-                idx = idx[still]
+                idx = idx[keep & ~settled & ~(new_C > bound_C)]
     return tj_C, converged
