@@ -166,3 +166,10 @@ def test_column_currents_shared_by_all_parts():
     np.testing.assert_array_equal(shared[0], table[0])
     np.testing.assert_allclose(shared[0], [100 * math.sqrt(2), 150.0], rtol=REL_TOL)
     assert list(shared[1]) == [False, True]
+
+
+def test_a_current_one_rounding_step_below_the_lowest_point_is_extrapolated():
+    """Regression (found by the property test above): 1e-5 A against a point at
+    1.0000000000000003e-05 A is below it, although their logarithms are equal."""
+    hfe, extrapolated = hfe_at_current(np.array([[1.0000000000000003e-05]]), np.array([[5.0]]), 1e-5)
+    assert extrapolated[0] and hfe[0] == 5.0

@@ -52,13 +52,15 @@ def _interp_rows(xp, fp, x, log):
     if log:
         usable &= (xp > 0) & (fp > 0)
     with np.errstate(divide="ignore", invalid="ignore"):
-        if log:
-            xp, x = np.log(xp), np.log(x)
         order = np.argsort(np.where(usable, xp, np.inf), axis=1, kind="stable")
         xs = np.take_along_axis(np.where(usable, xp, np.inf), order, axis=1)
         fs = np.take_along_axis(fp, order, axis=1)
         n = usable.sum(axis=1)
-        at_or_below = np.minimum((xs <= x[:, None]).sum(axis=1), n)  # points with xp <= x
+        # which points lie at or below x: compared before any logarithm, which
+        # could merge two currents one rounding step apart
+        at_or_below = np.minimum((xs <= x[:, None]).sum(axis=1), n)
+        if log:
+            xs, x = np.log(xs), np.log(x)
         rows = np.arange(xs.shape[0])
         lo = np.maximum(at_or_below - 1, 0)
         hi = np.minimum(at_or_below, np.maximum(n - 1, 0))
