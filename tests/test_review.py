@@ -495,7 +495,7 @@ def test_default_volume_is_said(tmp_path):
     result = invoke("review", str(DEMO_BOM), "--format", "json")
     assert "assumed: 1000 boards a build" in result.stderr
     assert json.loads(result.stdout)["volume"] == 1000
-    result = invoke("review", str(DEMO_BOM), "-r", str(POWER), "--format", "json")
+    result = invoke("review", str(DEMO_BOM), "-R", str(POWER), "--format", "json")
     assert json.loads(result.stdout)["volume"] == 5000
 
 
@@ -543,7 +543,7 @@ def test_help_text():
 
 def test_subprocess_run_has_no_traceback(tmp_path):
     out = tmp_path / "revised.csv"
-    result = run_cli("review", str(DEMO_BOM), "-r", str(POWER), "--write-bom", str(out))
+    result = run_cli("review", str(DEMO_BOM), "-R", str(POWER), "--write-bom", str(out))
     assert result.returncode == 0, result.stderr
     assert "Traceback" not in result.stdout + result.stderr
     assert "gauge-leds" in result.stdout and out.exists()

@@ -24,7 +24,7 @@ _ALT = "Alternatives"
 def review(
     bom_path: Annotated[str, typer.Argument(metavar="BOM.csv", help="Bill of materials (CSV); only read, never written.")],
     requirements: Annotated[Optional[str], typer.Option(
-        "--requirements", "-r", metavar="REQ.toml",
+        "--requirements", "-R", metavar="REQ.toml",
         help="Requirement file: lines named by a role's refs get the cheapest part feasible for "
              "the role, and an incumbent that fails its role is reported first.")] = None,
     catalog_path: CatalogOpt = None,
