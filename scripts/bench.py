@@ -1,0 +1,146 @@
+"""picker's speed, each figure beside its floor measured in the same run.
+
+    python scripts/bench.py [--quick] [--runs 5] [--workdir DIR]
+
+Prints one table: the median of several runs of each measure, the floor it is
+compared with, their ratio and the target. Synthetic catalogues and BOMs are
+generated once into the work folder (seeded: scripts/synth.py) and reused.
+`--quick` uses 100k parts instead of 1M where the full run uses 1M.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import shutil
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent
+sys.path.insert(0, str(HERE))
+sys.path.insert(0, str(ROOT))
+
+
+def picker_command() -> list[str]:
+    script = shutil.which("picker")
+    return [script] if script else [sys.executable, "-m", "picker"]
+
+
+def wall(cmd: list[str], runs: int, env: dict | None = None) -> float:
+    """Median wall time of a command, in seconds (one warm-up run first)."""
+    environment = dict(os.environ, **(env or {}))
+    times = []
+    for i in range(runs + 1):
+        t = time.perf_counter()
+        done = subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=environment)
+        if done.returncode not in (0, 1):
+            raise SystemExit(f"command failed ({done.returncode}): {' '.join(cmd)}")
+        if i:
+            times.append(time.perf_counter() - t)
+    return statistics.median(times)
+
+
+def timed(fn, runs: int) -> float:
+    times = []
+    for _ in range(runs):
+        t = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t)
+    return statistics.median(times)
+
+
+def main(argv: list[str]) -> None:
+    parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--runs", type=int, default=5)
+    parser.add_argument("--quick", action="store_true")
+    parser.add_argument("--workdir", default=os.path.join(tempfile.gettempdir(), "picker-bench"))
+    args = parser.parse_args(argv)
+    work = Path(args.workdir)
+    work.mkdir(parents=True, exist_ok=True)
+    big = 100_000 if args.quick else 1_000_000
+    rows: list[tuple[str, str, str, str, str]] = []
+
+    import synth
+
+    picker = picker_command()
+    py = sys.executable
+    example = str(ROOT / "catalog" / "examples" / "kettlewick-power.toml")
+
+    # 1. start-up: help, and the main job on the demo catalogue
+    help_s = wall(picker + ["--help"], args.runs)
+    floor_s = wall([py, "-c", "import typer, rich"], args.runs)
+    rows.append(("picker --help", f"{help_s * 1000:.0f} ms", f"{floor_s * 1000:.0f} ms (import typer, rich)",
+                 f"{help_s / floor_s:.2f}x", "<= 1.3x"))
+    choose_s = wall(picker + ["choose", example], args.runs)
+    stack_s = wall([py, "-c", "import pandas, numpy, typer, rich, rapidfuzz"], args.runs)
+    rows.append(("picker choose (demo)", f"{choose_s * 1000:.0f} ms",
+                 f"{stack_s * 1000:.0f} ms (import pandas, numpy, typer, rich, rapidfuzz)",
+                 f"{choose_s / stack_s:.2f}x", "<= 1.3x"))
+
+    # 2. the engine alone: one pass-switch role over `big` P-channel parts
+    from picker.engine import evaluate_role
+    from picker.requirements import load_requirements
+
+    import scalar_reference
+
+    req = load_requirements(example)
+    role = req.role("cell-switch")
+    frame = synth.loaded_frame(big, seed=1, kinds=("pmos",))
+    engine_s = timed(lambda: evaluate_role(frame, role, req), max(3, args.runs // 2))
+    rate = big / engine_s
+    sample = frame.head(20_000).reset_index(drop=True).to_dict("records")
+    spec = {"supply_min": req.supply.min_V, "supply_max": req.supply.max_V,
+            "gate_drive_drop": role.gate_drive_drop_V, "ambient_min": req.ambient.min_C,
+            "ambient_max": req.ambient.max_C, "load": role.load_A, "max_drop": role.max_drop_V,
+            "max_off": role.max_off_current_A, "max_tj": role.max_tj_C, "volume": req.volume}
+    scalar_s = timed(lambda: [scalar_reference.evaluate(p, spec) for p in sample], 1)
+    scalar_rate = len(sample) / scalar_s
+    rows.append((f"engine, {big:,} parts, one role", f"{rate / 1e6:.2f} M parts/s ({engine_s:.2f} s)",
+                 f"{scalar_rate / 1e3:.1f} k parts/s (per-part Python, 20k slice)",
+                 f"{rate / scalar_rate:.0f}x", ">= 2 M/s and >= 30x"))
+
+    # 3. catalogue load: first parse, then from the cache
+    cat_path = work / f"catalog-{big}.csv"
+    if not cat_path.exists():
+        synth.write_catalog(big, str(cat_path))
+    load = [py, "-c", f"from picker.catalog import load_catalog; load_catalog({str(cat_path)!r}, source='bench')"]
+    cache = work / "cache"
+    first = []
+    for _ in range(max(1, args.runs // 2)):
+        shutil.rmtree(cache, ignore_errors=True)
+        first.append(wall(load, 0 + 1, env={"PICKER_CACHE_DIR": str(cache)}))
+    # `wall` made a warm-up run first, so the entry exists from here on
+    second = wall(load, args.runs, env={"PICKER_CACHE_DIR": str(cache)})
+    first_s = statistics.median(first)
+    rows.append((f"catalogue load, {big:,} parts", f"{second:.2f} s (second, cached)",
+                 f"{first_s:.2f} s (first, parsed)", f"{first_s / second:.1f}x faster", ">= 3x"))
+
+    # 4. BOM review: 1,000 lines against 100k parts
+    cat100k = work / "catalog-100000.csv"
+    if not cat100k.exists():
+        synth.write_catalog(100_000, str(cat100k))
+    bom = work / "bom-1000.csv"
+    if not bom.exists():
+        synth.write_bom(1000, str(cat100k), str(bom))
+    review = picker + ["review", str(bom), "--catalog", str(cat100k), "--volume", "5000",
+                       "--format", "json"]
+    review_s = wall(review, max(3, args.runs // 2), env={"PICKER_CACHE_DIR": str(cache)})
+    rows.append(("review, 1,000-line BOM x 100k parts", f"{review_s:.2f} s", "", "", "< 3 s"))
+
+    width = [max(len(r[i]) for r in rows + [("measure", "figure", "floor", "ratio", "target")])
+             for i in range(5)]
+    line = "  ".join
+    print(line(h.ljust(w) for h, w in zip(("measure", "figure", "floor", "ratio", "target"), width)))
+    for r in rows:
+        print(line(c.ljust(w) for c, w in zip(r, width)))
+    print(f"\nmedian of {args.runs} runs; python {sys.version.split()[0]}, {os.cpu_count()} cores; "
+          f"work folder {work}")
+
+
+if __name__ == "__main__":
+    main(sys.argv[1:])
