@@ -31,18 +31,20 @@ def picker_command() -> list[str]:
     return [script] if script else [sys.executable, "-m", "picker"]
 
 
-def wall(cmd: list[str], runs: int, env: dict | None = None) -> float:
-    """Median wall time of a command, in seconds (one warm-up run first)."""
+def run_once(cmd: list[str], env: dict | None = None) -> float:
+    """Wall time of one run of a command, in seconds."""
     environment = dict(os.environ, **(env or {}))
-    times = []
-    for i in range(runs + 1):
-        t = time.perf_counter()
-        done = subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=environment)
-        if done.returncode not in (0, 1):
-            raise SystemExit(f"command failed ({done.returncode}): {' '.join(cmd)}")
-        if i:
-            times.append(time.perf_counter() - t)
-    return statistics.median(times)
+    t = time.perf_counter()
+    done = subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=environment)
+    if done.returncode not in (0, 1):
+        raise SystemExit(f"command failed ({done.returncode}): {' '.join(cmd)}")
+    return time.perf_counter() - t
+
+
+def wall(cmd: list[str], runs: int, env: dict | None = None) -> float:
+    """Median wall time of a command over `runs` runs, after one warm-up run."""
+    run_once(cmd, env)
+    return statistics.median(run_once(cmd, env) for _ in range(runs))
 
 
 def timed(fn, runs: int) -> float:
@@ -112,10 +114,9 @@ def main(argv: list[str]) -> None:
     cache = work / "cache"
     first = []
     for _ in range(max(1, args.runs // 2)):
-        shutil.rmtree(cache, ignore_errors=True)
-        first.append(wall(load, 0 + 1, env={"PICKER_CACHE_DIR": str(cache)}))
-    # `wall` made a warm-up run first, so the entry exists from here on
-    second = wall(load, args.runs, env={"PICKER_CACHE_DIR": str(cache)})
+        shutil.rmtree(cache, ignore_errors=True)  # nothing cached: the CSV is parsed
+        first.append(run_once(load, env={"PICKER_CACHE_DIR": str(cache)}))
+    second = wall(load, args.runs, env={"PICKER_CACHE_DIR": str(cache)})  # from the cache
     first_s = statistics.median(first)
     rows.append((f"catalogue load, {big:,} parts", f"{second:.2f} s (second, cached)",
                  f"{first_s:.2f} s (first, parsed)", f"{first_s / second:.1f}x faster", ">= 3x"))
