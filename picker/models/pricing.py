@@ -20,17 +20,19 @@ def unit_price_at(break_qty, prices, quantity):
     prices = np.atleast_2d(np.asarray(prices, dtype=float))
     n_parts = prices.shape[0]
     quantity = np.broadcast_to(np.asarray(quantity, dtype=float), (n_parts,))
-    if break_qty.size == 0:
-        return np.full(n_parts, np.nan), np.zeros(n_parts, dtype=bool)
-
-    priced = np.isfinite(prices) & np.isfinite(break_qty)
-    reached = priced & (break_qty <= quantity[:, None])
-    rows = np.arange(n_parts)
-    largest_reached = np.argmax(np.where(reached, break_qty, -np.inf), axis=1)
-    lowest_priced = np.argmin(np.where(priced, break_qty, np.inf), axis=1)
-
-    any_reached = reached.any(axis=1)
-    below = priced.any(axis=1) & ~any_reached & ~np.isnan(quantity)
-    unit_price = np.where(any_reached, prices[rows, largest_reached],
-                          np.where(below, prices[rows, lowest_priced], np.nan))
-    return unit_price, below
+    unit_price = np.full(n_parts, np.nan)
+    lowest = np.full(n_parts, np.nan)  # the price at the lowest priced break
+    reached = np.zeros(n_parts, dtype=bool)
+    # Breaks in ascending order, one column over all parts at a time: a later
+    # (larger) break that is reached and priced replaces the price found so far.
+    for j in np.argsort(break_qty, kind="stable"):
+        if not np.isfinite(break_qty[j]):
+            continue
+        price = prices[:, j]
+        priced = np.isfinite(price)
+        lowest = np.where(np.isnan(lowest) & priced, price, lowest)
+        hit = priced & (break_qty[j] <= quantity)
+        unit_price = np.where(hit, price, unit_price)
+        reached |= hit
+    below = ~reached & np.isfinite(lowest) & ~np.isnan(quantity)
+    return np.where(reached, unit_price, np.where(below, lowest, np.nan)), below
