@@ -11,6 +11,12 @@ error, or whose values would not read back exactly, is refused. `write_plan`
 writes through `safe_io.write_atomic` (temporary file, fsync, rename, `.bak`,
 refused if the file changed since it was read).
 
+Text cells written into the catalogue are made inert for spreadsheets
+(`_written`); cells starting with '=', '+', '@', a tab or a carriage return
+are refused outright in part, maker, package and notes (`_text_value`): such
+a cell in a supplier's table is a formula that leaked into the export, not a
+part's data.
+
 Policy for columns the catalogue lacks: refused (and listed) unless
 `add_columns`; then they are appended to the header and every existing row
 gets empty trailing fields, which changes every row's bytes (said in the
@@ -21,7 +27,6 @@ from __future__ import annotations
 
 import math
 import re
-import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -30,7 +35,7 @@ from picker.catalog import KNOWN_HEADERS, NO, UNKNOWN_MARKERS, YES, Catalog, Pro
 from picker.errors import CatalogError, PickerError, QuantityError
 from picker.importer import (BIPOLAR_ONLY, MOSFET_ONLY, STATUS_WORDS, HeaderMatch, Target,
                              _plain, cell_values, read_kind)
-from picker.safe_io import FileState, file_state, write_atomic
+from picker.safe_io import FileState, file_state, stale_temporaries, write_atomic  # noqa: F401
 from picker.tabular import TextTable, decode, read_bytes, read_table
 
 
@@ -289,6 +294,16 @@ def _cell(value, comma: bool) -> str:
     return str(value)
 
 
+def _written(value, comma: bool) -> str:
+    """A cell as written into the catalogue file: numbers as `_cell` writes
+    them; text made inert for spreadsheets (a leading apostrophe before '-',
+    '=', '+', '@'), which the catalogue loader drops again on reading, so the
+    value reads back exactly (`render.neutralise` / `render.restore`)."""
+    from picker.render import neutralise
+
+    return neutralise(value) if isinstance(value, str) else _cell(value, comma)
+
+
 def _same(a, b) -> bool:
     if isinstance(a, float) or isinstance(b, float):
         try:
@@ -449,20 +464,20 @@ def _splice(plan, text, encoding, table, records, names, position, new, edits, a
         if line != table.header_line:
             extra = edits.get(line, {})
             patches.append((record.end, record.end, "".join(
-                delim + _quote(_cell(extra[n], comma), delim) if n in extra else delim
+                delim + _quote(_written(extra[n], comma), delim) if n in extra else delim
                 for n in new)))
     for line, values in edits.items():
         fields = records[line].fields
         for name, value in values.items():
             if name in position and position[name] < len(fields):
                 start, end = fields[position[name]]
-                patches.append((start, end, _quote(_cell(value, comma), delim)))
+                patches.append((start, end, _quote(_written(value, comma), delim)))
     lines_before = len(re.findall(r"\r\n|\r|\n", text))
     tail = "" if not text or text.endswith(("\n", "\r")) else newline
     order = [n for n in names] + new
     block = []
     for k, row in enumerate(appended):
-        cells = [_quote(_cell(row.values[n], comma), delim) if n in row.values else ""
+        cells = [_quote(_written(row.values[n], comma), delim) if n in row.values else ""
                  for n in order]
         block.append(delim.join(cells[:width]) + newline)
         plan.appended.append({"part": row.part, "kind": row.values.get("kind", ""),
@@ -531,35 +546,12 @@ def _validate(plan: Plan, before: Catalog, appended, edits, raw_path) -> None:
         plan.after = None
 
 
-STALE_SECONDS = 600  # a temporary file older than this is left by an interrupted write
-
-
-def stale_temporaries(path: str) -> list[Path]:
-    """Temporary files an interrupted write of `path` (or of its .bak) left behind."""
-    target = Path(path)
-    now = time.time()
-    found = []
-    for pattern in (f".{target.name}.*.tmp", f".{target.name}.bak.*.tmp"):
-        for p in target.parent.glob(pattern):
-            try:
-                if now - p.stat().st_mtime > STALE_SECONDS:
-                    found.append(p)
-            except OSError:
-                continue
-    return sorted(set(found))
-
-
 def write_plan(plan: Plan) -> tuple[Path | None, list[Path]]:
     """Write the planned bytes atomically; returns (backup, stale temporaries removed).
     Refuses (WriteRefused) if the catalogue changed on disk since it was read."""
     if plan.after is None:
         raise CatalogError("nothing to write: the import has errors", file=plan.path)
-    removed = []
-    for p in stale_temporaries(plan.path):
-        try:
-            p.unlink()
-            removed.append(p)
-        except OSError:
-            pass
-    backup = write_atomic(plan.path, plan.after, overwrite=True, backup=True, expect=plan.state)
+    removed: list[Path] = []
+    backup = write_atomic(plan.path, plan.after, overwrite=True, backup=True, expect=plan.state,
+                          cleaned=removed)
     return backup, removed
