@@ -8,7 +8,6 @@ in the unit named by the column key, undecorated on stdout).
 
 from __future__ import annotations
 
-import csv
 import io
 import json
 import math
@@ -69,8 +68,20 @@ def clean(value: Any) -> Any:
 
 
 def neutralise(text: str) -> str:
-    """A text cell a spreadsheet would run as a formula, made inert."""
-    return "'" + text if text.startswith(FORMULA_START) else text
+    """A text cell a spreadsheet would run as a formula, made inert with a
+    leading apostrophe. A cell that already starts with apostrophes before
+    such a character gets one more, so `restore` gives back every cell
+    exactly: restore(neutralise(t)) == t for any text."""
+    return "'" + text if text.lstrip("'").startswith(FORMULA_START) else text
+
+
+def restore(text: str) -> str:
+    """The inverse of `neutralise`, for reading back text picker wrote (the
+    catalogue loader applies it to text cells): one leading apostrophe
+    before a formula character, or before more apostrophes and then one, is
+    dropped. Other text is returned as it is."""
+    return text[1:] if text.startswith("'") and text.lstrip("'").startswith(FORMULA_START) \
+        else text
 
 
 def csv_cell(value: Any, numeric: bool) -> str:
@@ -105,11 +116,25 @@ def table_cell(value: Any, column: Column) -> str:
     return str(value)
 
 
+def csv_field(cell: str) -> str:
+    """One CSV field: quoted where it holds a comma, a quote or a line break.
+    (The csv module's writer, ending lines with '\\n', leaves a lone '\\r'
+    unquoted, and every reader then starts a new row there.)"""
+    if any(c in cell for c in ',"\n\r'):
+        return '"' + cell.replace('"', '""') + '"'
+    return cell
+
+
+def _csv_line(cells: list[str]) -> str:
+    if cells == [""]:
+        return '""\n'  # one empty field: written so that the line is not blank
+    return ",".join(csv_field(c) for c in cells) + "\n"
+
+
 def write_csv(columns: list[Column], rows: Iterable[dict], out) -> None:
-    writer = csv.writer(out, lineterminator="\n")
-    writer.writerow([neutralise(c.key) for c in columns])
+    out.write(_csv_line([neutralise(c.key) for c in columns]))
     for row in rows:
-        writer.writerow([csv_cell(row.get(c.key), c.numeric) for c in columns])
+        out.write(_csv_line([csv_cell(row.get(c.key), c.numeric) for c in columns]))
 
 
 def to_json(report: Report) -> str:
