@@ -63,7 +63,9 @@ _KIND_WORDS = (("pmos", re.compile(r"\bP-?CH(ANNEL)?\b|\bPMOS\b", re.I)),
 # sizes, cut tape, bulk, lead-free. Compared after `normalise_part`.
 PACKAGING_SUFFIXES = ("tr", "reel", "rl", "r7", "r13", "ct", "cut", "bulk", "tape", "pbf", "lf",
                       "nopb")
-MAX_RANGE = 10_000  # refs in one range such as Q1-Q10000
+MAX_RANGE = 10_000  # refs in one range such as Q1-Q10000; a longer one is kept as written
+MAX_REFS = 1_000_000  # refs in the whole BOM, ranges expanded: beyond it, an error
+MAX_QTY = 100_000  # parts per board on one line (as picker.requirements.MAX_QTY)
 
 
 def _header_key(text: str) -> str:
@@ -206,7 +208,7 @@ def _after_preamble(path, data, table, found, known):
     """A header below title lines: the first of the top lines that names the
     part column and the refs or quantity; the table re-read from there."""
     text, _ = decode(data, path, BomError)
-    lines = text.splitlines(keepends=True)
+    lines = _physical_lines(text)  # as the csv module counts lines
     import csv
 
     for k in range(1, min(len(lines), PREAMBLE_LINES)):
@@ -234,6 +236,7 @@ def _read_lines(bom: Bom, table) -> None:
     n = len(table.lines)
     cells_by_row = list(zip(*table.columns)) if table.columns else [()] * n
     comma_prices = 0
+    total_refs = 0
     seen_refs: dict[str, int] = {}
 
     def cell(row: tuple, name: str) -> str:
@@ -244,6 +247,11 @@ def _read_lines(bom: Bom, table) -> None:
         warn = lambda col, msg: bom.warnings.append(  # noqa: E731
             Problem("warning", bom.path, line, None if col is None else cols[col] + 1, msg))
         refs, problems = expand_refs(cell(cells, "refs"))
+        total_refs += len(refs)
+        if total_refs > MAX_REFS:
+            raise BomError(f"the BOM names more than {MAX_REFS:,} refs (ranges expanded); picker "
+                           "reads BOMs up to that many (split it)", file=bom.path, line=line,
+                           column=cols["refs"] + 1)
         for message in problems:
             warn("refs", message)
         for ref in refs:
@@ -270,8 +278,9 @@ _REF = re.compile(r"^([A-Za-z_]+)(\d+)$")
 def expand_refs(text: str) -> tuple[list[str], list[str]]:
     """'Q1, Q3' -> [Q1, Q3]; 'Q4-Q7' (or 'Q4-7', 'Q4..Q7') -> [Q4, Q5, Q6, Q7].
     Separators: comma, semicolon, spaces. A token that is not a usable range
-    (mixed letters, descending, over MAX_RANGE refs) is kept as one ref, with a
-    problem message. Returns (refs, problems)."""
+    (mixed letters, descending, over MAX_RANGE refs, numbers of more than 18
+    digits) is kept as one ref, with a problem message: never expanded.
+    Returns (refs, problems)."""
     text = re.sub(r"\s*(?:\.\.|[-–—])\s*", "-", text.strip())
     refs: list[str] = []
     problems: list[str] = []
@@ -283,6 +292,10 @@ def expand_refs(text: str) -> tuple[list[str], list[str]]:
         ma, mb = _REF.match(a), _REF.match(b) or re.match(r"^()(\d+)$", b)
         if not (ma and mb) or "-" in b or (mb.group(1) and mb.group(1).upper() != ma.group(1).upper()):
             refs.append(token)  # e.g. 'U1-A': a name with a dash, not a range
+            continue
+        if max(len(ma.group(2)), len(mb.group(2))) > 18:
+            problems.append(f"'{token}': numbers this long are not a usable range; kept as written")
+            refs.append(token)
             continue
         start, end = int(ma.group(2)), int(mb.group(2))
         if end < start or end - start + 1 > MAX_RANGE:
@@ -308,11 +321,19 @@ def _quantity(text: str, refs: list[str], warn, has_column: bool) -> int | None:
             warn("qty", "no quantity and no refs; the line cannot be costed")
             return None
         return len(refs) if refs else None
+    if len(m.group(1).lstrip("0")) > len(str(MAX_QTY)) or int(m.group(1)) > MAX_QTY:
+        what = f"using the {len(refs)} refs" if refs else "the line cannot be costed"
+        warn("qty", f"quantity '{_clip(text.strip())}' is over {MAX_QTY:,} per board; {what}")
+        return len(refs) if refs else None
     qty = int(m.group(1))
     if refs and qty != len(refs):
         warn("qty", f"quantity {qty} disagrees with the {len(refs)} refs "
              f"({_short(refs)}); costed at the quantity, {qty} per board")
     return qty
+
+
+def _clip(text: str, length: int = 40) -> str:
+    return text if len(text) <= length else text[:length - 3] + "..."
 
 
 def _short(refs: list[str]) -> str:
@@ -486,7 +507,7 @@ class PartIndex:
         for length, group in queries.items():
             # OSA similarity >= cutoff needs min(len) >= cutoff * max(len)
             lo = math.ceil(cutoff * length - 1e-9)
-            hi = math.floor(length / cutoff + 1e-9) if cutoff > 0 else 10**9
+            hi = math.floor(min(length / cutoff, 1e9) + 1e-9) if cutoff > 0 else 10**9
             a, b = np.searchsorted(self._sorted_len, [lo, hi + 1])
             keys, positions = self._sorted_keys[a:b], self._sorted_pos[a:b]
             if not keys:
@@ -540,7 +561,10 @@ def revised_bom(bom: Bom, changes: dict[int, Change], *, note_for: dict[int, str
     header column (`picker_change_2`... if the BOM has one). Every other byte is
     kept: the records are split from the original text, not re-written, so
     quoting, spacing, line ends and the title lines above the header survive.
-    Same delimiter and encoding as the input."""
+    Same delimiter and encoding as the input. The cells picker writes are made
+    inert for spreadsheets (`render.neutralise`: a leading apostrophe before
+    '=', '+', '-', '@', a tab or a CR); the user's own cells are the user's
+    data and stay byte for byte as they were, even one a spreadsheet would run."""
     text, _ = decode(bom.data, bom.path, BomError)
     records = split_records(text, bom.delimiter)
     name = CHANGE_COLUMN
@@ -600,7 +624,7 @@ def _faithful(bom: Bom, data: bytes, changes: dict[int, Change], name: str) -> b
     """Does the written copy read back as the original plus the changes?"""
     try:
         text = decode(data, bom.path, BomError)[0]
-        rest = "".join(text.splitlines(keepends=True)[bom.header_line - 1:])  # past title lines
+        rest = "".join(_physical_lines(text)[bom.header_line - 1:])  # past title lines
         again = read_table(bom.path, error=BomError, what="BOM", data=rest.encode("utf-8"))
     except BomError:
         return False
@@ -617,17 +641,44 @@ def _faithful(bom: Bom, data: bytes, changes: dict[int, Change], name: str) -> b
 
 
 def _rewritten(bom: Bom, changes: dict[int, Change], name: str, note_for: dict[int, str]) -> bytes:
-    """Fallback when the file's layout defeats the byte-keeping copy: every cell
-    written again with the csv module (same delimiter and encoding; cell values kept)."""
+    """Fallback when the file's layout defeats the byte-keeping copy: the title
+    lines above the header kept as they were, then every record written again
+    (same delimiter, line ending and encoding), quoted where it holds the
+    delimiter, a quote or a line break of any kind. Each row keeps its cells as
+    read (unstripped), fields past the header's width included, with the
+    changed cells and the note put in."""
     import csv
 
-    out = io.StringIO()
-    writer = csv.writer(out, delimiter=bom.delimiter, lineterminator="\r\n" if b"\r\n" in bom.data
-                        else "\n")
-    writer.writerow(list(bom.header) + [name])
-    for cells, note in _expected_cells(bom, changes, note_for):
-        writer.writerow(cells + [_neutral(note)])
-    return out.getvalue().encode(bom.encoding, errors="replace")
+    text, _ = decode(bom.data, bom.path, BomError)
+    lines = _physical_lines(text)
+    preamble = "".join(lines[:bom.header_line - 1])
+    try:
+        records = [r for r in csv.reader(io.StringIO("".join(lines[bom.header_line - 1:]),
+                                                     newline=""),
+                                         delimiter=bom.delimiter, strict=False)
+                   if any(c.strip() for c in r)]
+    except csv.Error:
+        records = []
+    width = len(bom.header)
+    expected = list(_expected_cells(bom, changes, note_for))
+    if len(records) != len(expected) + 1:  # not the rows read: write the cells as read
+        records = [list(bom.header)] + [cells for cells, _ in expected]
+    rows = [list(records[0][:width]) + [name]]
+    for (cells, note), raw in zip(expected, records[1:]):
+        raw = list(raw) + [""] * (width - len(raw))
+        kept = [raw[i] if raw[i].strip() == cells[i] else cells[i] for i in range(width)]
+        rows.append(kept + [_neutral(note)] + raw[width:])
+    ending = "\r\n" if b"\r\n" in bom.data else "\n"
+    out = preamble + "".join(bom.delimiter.join(_quoted(c, bom.delimiter) for c in row) + ending
+                             for row in rows)
+    return out.encode(bom.encoding, errors="replace")
+
+
+def _physical_lines(text: str) -> list[str]:
+    """`text` split after each line break as the csv module counts them (CR,
+    LF, CRLF), endings kept (str.splitlines also splits at form feeds and
+    other separators, which the csv module reads as text)."""
+    return re.findall(r"[^\r\n]*(?:\r\n|\r|\n)|[^\r\n]+$", text)
 
 
 def _join(fields, delimiter: str) -> str:
@@ -645,7 +696,13 @@ def _cell(value: str, delimiter: str) -> str:
     """A new cell: made inert for spreadsheets, quoted where the text needs it."""
     from picker.render import neutralise
 
-    value = neutralise(str(value))
+    return _quoted(neutralise(str(value)), delimiter)
+
+
+def _quoted(value: str, delimiter: str) -> str:
+    """`value` as a CSV field: quoted where it holds the delimiter, a quote or a
+    line break (the csv module's writer leaves a lone CR unquoted), or where
+    spaces at its ends would be stripped on reading."""
     if any(c in value for c in (delimiter, '"', "\n", "\r")) or value != value.strip():
         return '"' + value.replace('"', '""') + '"'
     return value

@@ -23,6 +23,7 @@ import pandas as pd
 from picker import columns as cols
 from picker.errors import CatalogError, QuantityError, one_line
 from picker.quantities import parse_quantity
+from picker.render import restore
 from picker.tabular import read_bytes, read_table
 
 UNKNOWN_MARKERS = {"", "-", "–", "—", "?", "n/a", "na", "nan", "none", "unknown", "tbd"}
@@ -131,7 +132,7 @@ def load_catalog(path: str | os.PathLike | None = None, *, source: str | None = 
     if catalog is None:
         table = read_table(path, error=CatalogError, what="catalogue", known=KNOWN_HEADERS,
                            data=data)
-        catalog = _convert(table)
+        catalog = _convert(table, apostrophes=_apostrophe_cells(data))
         catalog.source = source
         catalog.fingerprint = fingerprint
         if cache and stat is not None:
@@ -150,7 +151,28 @@ def load_catalog(path: str | os.PathLike | None = None, *, source: str | None = 
     return catalog
 
 
-def _convert(table) -> Catalog:
+def _apostrophe_cells(data: bytes) -> bool:
+    """May a cell start with an apostrophe (as a cell picker's CSV output made
+    inert does)? A quick look at the bytes: most files have no apostrophe at
+    all, or only inside words ("it's"); UTF-16 files are always looked at."""
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        return True
+    at = data.find(b"'")
+    while at != -1:
+        k = at - 1
+        while k >= 0 and data[k] == 32:
+            k -= 1
+        if k < 0 or data[k] in b",;\t\r\n\"\xbf":  # \xbf: the end of a UTF-8 byte-order mark
+            return True
+        at = data.find(b"'", at + 1)
+    return False
+
+
+def _convert(table, apostrophes: bool = True) -> Catalog:
+    """`apostrophes`: the file has a "'" somewhere, so text cells may be ones
+    picker's CSV output made inert for spreadsheets ("'-5 V"): they are read
+    back as they were (`render.restore`), so a catalogue written by
+    `catalog show --format csv` loads to the same table."""
     path = table.path
     problems: list[Problem] = []
     bad_rows: set[int] = set()  # positions of rows with errors
@@ -198,14 +220,15 @@ def _convert(table) -> Catalog:
     for i, (raw, name) in enumerate(zip(table.header, names), start=1):
         cells = table.cells(i - 1)
         if name is None:
-            if raw and raw not in data and not any(p.column == i and p.line == table.header_line
+            key = restore(raw) if apostrophes else raw
+            if key and key not in data and not any(p.column == i and p.line == table.header_line
                                                    for p in problems):
-                data[raw] = np.array(cells, dtype=object)  # unknown column: kept as text
+                data[key] = _text(cells, apostrophes)  # unknown column: kept as text
             continue
         col_of[name] = i
         unit, _ = cols.spec_of(name)
         if unit is None:
-            data[name] = np.array(cells, dtype=object)
+            data[name] = _text(cells, apostrophes)
         else:
             values, bad = _numbers(cells, unit, table.decimal_comma)
             for pos, message in bad:
@@ -225,6 +248,17 @@ def _convert(table) -> Catalog:
     problems.sort(key=lambda p: (p.line or 0, p.column or 0, p.severity))
     return Catalog(df[keep].copy(), problems, path, "", n, encoding=table.encoding,
                    delimiter=table.delimiter, error_lines=error_lines)
+
+
+def _text(cells, apostrophes: bool) -> np.ndarray:
+    """A text column as an object array; cells made inert by picker's CSV
+    output restored (see `_convert`)."""
+    column = np.array(cells, dtype=object)
+    if apostrophes:
+        for pos in np.flatnonzero(pd.Series(column, dtype=object).str.startswith("'").to_numpy(
+                dtype=bool, na_value=False)):
+            column[pos] = restore(column[pos])
+    return column
 
 
 def _numbers(cells, unit: str, decimal_comma: bool) -> tuple[np.ndarray, list]:
@@ -435,7 +469,7 @@ def select(df: pd.DataFrame, *, parts: list[str] = (), kinds: list[str] = (),
         out = out[out["kind"].isin([k.lower() for k in kinds])]
     if packages and "package" in out:
         out = out[out["package"].astype(str).str.lower().isin([p.lower() for p in packages])]
-    if text:
+    if text and len(out):  # (on no rows, agg() would give a DataFrame, not a Series)
         fields = [c for c in ("part", "maker", "package", "notes") if c in out]
         hay = out[fields].astype(str).agg(" ".join, axis=1).str.lower()
         out = out[hay.str.contains(text.lower(), regex=False)]

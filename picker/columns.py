@@ -90,6 +90,15 @@ _CONDITION = re.compile(r"^([+-]?)(\d+(?:\.\d*)?|\.\d+)(?:e([+-]?\d+))?\s*(v|ma|
 _CURRENT_EXP = {"a": 3, "ma": 0, "ua": -3}  # power of ten to mA
 
 
+MAX_CONDITION = Decimal(10) ** 12  # a point column's condition: 1e-12..1e12 (V, mA, parts)
+_EXAMPLE = {"rds_on_mohm": "rds_on_mohm@2.5V", "hfe_min": "hfe_min@1mA",
+            "vce_sat_mv": "vce_sat_mV@10mA", "price": "price@1000"}
+
+
+def _clip(text: str, length: int = 60) -> str:
+    return text if len(text) <= length else text[:length - 3] + "..."
+
+
 def _plain(d: Decimal) -> str:
     return format(d.normalize(), "f")
 
@@ -114,18 +123,24 @@ def canonical(header: str) -> str | None:
         return None
     family, condition = m.group(1), m.group(2)
     c = _CONDITION.match(condition)
+    if c and (len(c.group(2)) > 20 or len((c.group(3) or "").lstrip("+-")) > 3):
+        raise HeaderProblem(f"'{_clip(header)}': the condition is out of range; write e.g. "
+                            f"{_EXAMPLE[family]}")
     if family == "price":
         if not c or c.group(1) or c.group(4) not in (None, "k"):
             raise HeaderProblem(f"price break '{header}' is not a whole quantity; write e.g. price@1000")
         qty = Decimal(c.group(2)) * (1000 if c.group(4) == "k" else 1) * Decimal(10) ** int(c.group(3) or 0)
-        if qty != qty.to_integral_value() or qty < 1:
-            raise HeaderProblem(f"price break '{header}' is not a whole quantity of 1 or more; "
-                                "write e.g. price@1000")
+        if qty != qty.to_integral_value() or qty < 1 or qty > MAX_CONDITION:
+            raise HeaderProblem(f"price break '{_clip(header)}' is not a whole quantity of 1 or "
+                                f"more (up to {MAX_CONDITION:.0e}); write e.g. price@1000")
         return f"price@{int(qty)}"
     try:
         value = Decimal(c.group(2)) * Decimal(10) ** int(c.group(3) or 0) if c else None
     except InvalidOperation:
         value = None
+    if value and not 1 / MAX_CONDITION <= abs(value) <= MAX_CONDITION:
+        raise HeaderProblem(f"'{_clip(header)}': the condition is out of range; write e.g. "
+                            f"{_EXAMPLE[family]}")
     if family == "rds_on_mohm":
         if value is None or c.group(4) not in ("v", None) or value == 0:
             raise HeaderProblem(f"'{header}': the gate drive must be a voltage, e.g. rds_on_mohm@2.5V")

@@ -86,4 +86,6 @@ class WriteRefused(PickerError, OSError):
 
 
 class TooLarge(PickerError, ValueError):
-    """An input beyond the bounds picker accepts (see limits in safe_io)."""
+    """An input beyond the bounds picker accepts: tabular.MAX_BYTES and MAX_ROWS
+    (catalogues, BOMs, raw tables), bom.MAX_REFS, importer.MAX_MAPPING_BYTES;
+    requirement files have theirs in picker.requirements."""

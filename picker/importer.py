@@ -21,10 +21,11 @@ from dataclasses import dataclass
 from decimal import Decimal
 
 from picker import columns as cols
-from picker.errors import MappingError, QuantityError
+from picker.errors import MappingError, QuantityError, one_line
 from picker.quantities import PREFIX_EXP, parse_quantity, unit_label
 
 MAP_AT = 80.0  # a header scoring below this is left unmapped and listed
+MAX_MAPPING_BYTES = 1_000_000  # a mapping file's bound, as a requirement file's
 
 # -- the vocabulary ---------------------------------------------------------
 # Spellings of the trade (lower case, punctuation as spaces), by quantity.
@@ -496,7 +497,7 @@ def load_mapping(path: str) -> dict[str, Target | None]:
     {column = ..., unit = ...}, or "" to leave the header out)."""
     from picker.tabular import read_bytes
 
-    data = read_bytes(path, MappingError, "mapping")
+    data = read_bytes(path, MappingError, "mapping", limit=MAX_MAPPING_BYTES)
     try:
         text = data.decode("utf-8-sig")
         doc = tomllib.loads(text)
@@ -507,6 +508,12 @@ def load_mapping(path: str) -> dict[str, Target | None]:
         raise MappingError(f"not valid TOML: {str(exc).split(' (at')[0]}", file=path,
                            line=int(m.group(1)) if m else None,
                            column=int(m.group(2)) if m else None) from None
+    except ValueError:  # an integer past Python's 4,300-digit limit for reading one
+        m = re.search(r"\d{4000,}", text)
+        raise MappingError("not valid TOML: a number with thousands of digits", file=path,
+                           line=text.count("\n", 0, m.start()) + 1 if m else None) from None
+    except RecursionError:
+        raise MappingError("not valid TOML: nested too deeply", file=path) from None
     extra = [k for k in doc if k != "columns"]
     if extra or not isinstance(doc.get("columns"), dict):
         raise MappingError(f"expected one [columns] table of \"raw header\" = \"column\""
@@ -543,11 +550,17 @@ def _toml_str(text: str) -> str:
 
 def mapping_toml(matches: list[HeaderMatch], source: str) -> str:
     """The mapping as a TOML file, ready for --map next time (left-out headers as "")."""
-    lines = [f"# picker catalogue import mapping, made from {source}",
+    lines = [f"# picker catalogue import mapping, made from {one_line(source)}",
              "# raw header = catalogue column; \"\" leaves the header out;",
              "# {column = \"...\", unit = \"...\"} gives the unit of bare numbers.", "",
              "[columns]"]
+    written: dict[str, int] = {}
     for m in matches:
+        if _key(m.raw) in written:  # a repeated header: one key (a TOML key is given once)
+            lines.append(f"# header {m.position} repeats header {written[_key(m.raw)]}: "
+                         f"{_toml_str(m.raw)}")
+            continue
+        written[_key(m.raw)] = m.position
         if m.target is None:
             value, comment = '""', f"  # left out: {m.note}" if m.note else ""
         elif m.target.unit:
@@ -555,5 +568,5 @@ def mapping_toml(matches: list[HeaderMatch], source: str) -> str:
             comment = f"  # score {m.score:g}"
         else:
             value, comment = _toml_str(m.target.name), f"  # score {m.score:g}"
-        lines.append(f"{_toml_str(m.raw)} = {value}{comment.replace(chr(10), ' ')}")
+        lines.append(f"{_toml_str(m.raw)} = {value}{one_line(comment)}")  # comments: one line
     return "\n".join(lines) + "\n"

@@ -117,7 +117,8 @@ def unit_label(unit: str) -> str:
     dim, exp = UNITS[unit]
     prefix = {v: k for k, v in PREFIX_EXP.items() if k not in ("u",)}.get(exp, "")
     if dim is FRACTION_TC:
-        return "%/°C" if exp == -2 else "1/°C"
+        # Not '1/°C': with the space dropped on reading, '2.5 1/°C' would read as 2.51 /°C.
+        return "%/°C" if exp == -2 else "/°C"
     if dim in (TEMPERATURE, THERMAL_RESISTANCE, NUMBER):
         return dim.base
     return prefix + dim.base

@@ -31,6 +31,7 @@ PASS_USES = ("high-side-pmos", "low-side-nmos")
 
 MAX_FILE_BYTES, MAX_ROLES, MAX_REFS = 1_000_000, 200, 1000  # files people receive from others
 MAX_VOLUME, MAX_QTY = 10**9, 100_000
+MAX_MAGNITUDE = 1e12  # any quantity, in its unit (A, V, ohm, degC...): 1e24 when squared
 QUICK_SUPPLY_V, QUICK_AMBIENT_C, QUICK_VOLUME, QUICK_REFS = (3.0, 4.2), (-20.0, 50.0), 1000, ("Q?",)
 
 
@@ -101,7 +102,7 @@ class Requirements:
 
     def role(self, name: str) -> Role:
         for r in self.roles:
-            if r.name == name:
+            if r.name == name or r.name == name.strip():  # names are read stripped
                 return r
         names = [r.name for r in self.roles]
         close = _closest(name, names)
@@ -184,13 +185,53 @@ class _FileWhere:
         self.source, self.doc, self.lines = source, doc, text.split("\n")
         starts, in_string = [("", 0)], None  # (header, 0-based line); "" is the top level
         for n, line in enumerate(self.lines):
-            if in_string is None and (m := self._HEADER.match(line)):
+            if in_string is None and (name := self._toml_header(line)) is not None:
+                starts.append((name, n))
+            elif in_string is None and (m := self._HEADER.match(line)):
                 starts.append((m.group(1) + re.sub(r"[\s\"']", "", m.group(2)), n))
-            for quote in ('"""', "'''"):  # skip headers inside multi-line strings
-                if in_string in (None, quote) and line.count(quote) % 2:
-                    in_string = None if in_string else quote
+            in_string = self._open_string(line, in_string)  # skip headers inside them
         ends = [n for _, n in starts[1:]] + [len(self.lines)]
         self.sections = [(h, n, end) for (h, n), end in zip(starts, ends)]
+
+    _TOKENS = re.compile(r'"""|\'\'\'|"(?:[^"\\\n]|\\.)*"|\'[^\'\n]*\'|#')
+
+    @classmethod
+    def _open_string(cls, line: str, open_: str | None) -> str | None:
+        """The multi-line string (its quotes) still open after `line`, given the
+        one open before it: one-line strings and comments are stepped over, so
+        quotes inside them do not count."""
+        pos = 0
+        while True:
+            if open_:
+                end = line.find(open_, pos)
+                if end < 0:
+                    return open_
+                pos, open_ = end + 3, None
+                continue
+            m = cls._TOKENS.search(line, pos)
+            if m is None or m.group() == "#":
+                return None
+            if m.group() in ('"""', "'''"):
+                open_ = m.group()
+            pos = m.end()
+
+    @staticmethod
+    def _toml_header(line: str) -> str | None:
+        """'[' or '[[' and the dotted name of a table header line, read as TOML
+        (so quoted names holding '#', quotes or escapes read as tomllib reads
+        them); None when the line is not a header on its own."""
+        text = line.strip()
+        if not text.startswith("["):
+            return None
+        try:
+            node = tomllib.loads(text)
+        except (ValueError, RecursionError):
+            return None
+        names = []
+        while isinstance(node, dict) and len(node) == 1:
+            name, node = next(iter(node.items()))
+            names.append(name)
+        return ("[[" if text.startswith("[[") else "[") + ".".join(names) if names else None
 
     def label(self, path: tuple) -> str:
         if path[:1] == ("role",) and len(path) > 1:
@@ -212,6 +253,12 @@ class _FileWhere:
         for n in range(section[1] + bool(section[0]), section[2]):
             if key.match(self.lines[n]):
                 return n + 1, len(self.lines[n]) - len(self.lines[n].lstrip()) + 1
+        for n in range(section[1] + bool(section[0]), section[2]):  # a key written with escapes
+            try:
+                if "=" in self.lines[n] and keys[0] in tomllib.loads(self.lines[n]):
+                    return n + 1, len(self.lines[n]) - len(self.lines[n].lstrip()) + 1
+            except (ValueError, RecursionError):  # a line of a multi-line value, or not a key line
+                continue
         return None
 
     def fail(self, path: tuple, message: str, *, at: tuple | None = None):
@@ -261,12 +308,19 @@ def _quantity(where, path: tuple, value, unit: str, rule: str, example: str):
     test, need = RULES[rule]
     if not test(number):
         where.fail(path, f"'{value}' {need}")
+    if abs(number) > MAX_MAGNITUDE:  # squared in the models: keep far from float overflow
+        where.fail(path, f"'{value}' is out of range; picker takes values up to "
+                         f"{MAX_MAGNITUDE:g} {unit}")
     return number
 
 
 def _count(where, path: tuple, value, limit: int) -> int:
     if isinstance(value, str) and re.fullmatch(r"\s*\d+\s*", value):
-        value = int(value)
+        digits = value.strip().lstrip("0") or "0"
+        if len(digits) > len(str(limit)):  # (int() refuses over 4,300 digits)
+            where.fail(path, f"'{value.strip()[:20]}...' is over the limit of {limit:,}"
+                       if len(digits) > 20 else f"{value.strip()} is over the limit of {limit:,}")
+        value = int(digits)
     if isinstance(value, bool) or not isinstance(value, int) or value < 1:
         where.fail(path, f"'{value}' must be a whole number, 1 or more")
     if value > limit:
@@ -431,9 +485,21 @@ def parse_requirements(text: str, source: str) -> Requirements:
         message = _TOML_AT.sub("", str(err))
         message = _TOML_TIPS.get(message, message[:1].lower() + message[1:])
         raise RequirementError(f"not valid TOML: {message}", file=source, line=line, column=column) from None
+    except ValueError:  # an integer past Python's 4,300-digit limit for reading one
+        line, column = _long_number(text)
+        raise RequirementError("not valid TOML: a number with thousands of digits", file=source,
+                               line=line, column=column) from None
     except RecursionError:
         raise RequirementError("not valid TOML: nested too deeply", file=source) from None
     return _build(doc, _FileWhere(source, text, doc), source)
+
+
+def _long_number(text: str) -> tuple[int | None, int | None]:
+    """(line, column) of the first run of thousands of digits in `text`."""
+    m = re.search(r"\d{4000,}", text)
+    if m is None:
+        return None, None
+    return text.count("\n", 0, m.start()) + 1, m.start() - (text.rfind("\n", 0, m.start()) + 1) + 1
 
 
 def _doc_of(req: Requirements) -> dict:

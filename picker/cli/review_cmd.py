@@ -137,8 +137,10 @@ def _column_overrides(items: list[str]) -> dict[str, str]:
 
 def _volume(text: str) -> int:
     cleaned = re.sub(r"[\s_,]", "", text)
-    if not cleaned.isdigit() or int(cleaned) < 1:
-        raise UsageError(f"--volume {text}: give a whole number of boards, e.g. --volume 5000")
+    # ASCII digits only: str.isdigit() accepts '²', which int() refuses; and a
+    # bound on the length (int() refuses over 4,300 digits)
+    if not re.fullmatch(r"[0-9]{1,12}", cleaned) or int(cleaned) < 1:
+        raise UsageError(f"--volume {text[:40]}: give a whole number of boards, e.g. --volume 5000")
     return int(cleaned)
 
 
@@ -184,7 +186,7 @@ def compact_refs(refs) -> str:
         run.clear()
 
     for ref in refs:
-        m = re.match(r"^([A-Za-z_]+)(\d+)$", ref)
+        m = re.match(r"^([A-Za-z_]+)([0-9]{1,18})$", ref)  # (int() refuses over 4,300 digits)
         if m and run and run[-1][0] == m.group(1) and run[-1][1] + 1 == int(m.group(2)):
             run.append((m.group(1), int(m.group(2))))
             continue
