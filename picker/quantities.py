@@ -27,7 +27,7 @@ import re
 from dataclasses import dataclass
 from decimal import Decimal
 
-from picker.errors import QuantityError
+from picker.errors import QuantityError, one_line
 
 # SI prefixes as powers of ten: The International System of Units (SI Brochure),
 # 9th edition, BIPM 2019, Table 7. `u` is the usual ASCII stand-in for micro.
@@ -108,6 +108,7 @@ UNITS: dict[str, tuple[Dimension, int]] = {
 }
 
 _SPACES = re.compile(r"[\s\u00a0\u2009\u202f]+")
+_SPLIT_NUMBER = re.compile(r"[\d.,][\s\u00a0\u2009\u202f]+[\d.,]")
 _NUMBER = re.compile(r"([+-]?)(\d+(?:\.\d*)?|\.\d+)(?:[eE]([+-]?\d+))?")
 _IEC_CODE = re.compile(r"(\d*)([RKkMGTpnuµm])(\d+)")
 
@@ -132,7 +133,11 @@ def _expected(unit: str) -> str:
 
 
 def _normalise(text: str, decimal_comma: bool) -> tuple[str, bool]:
-    """Strip spaces, unify minus and micro signs; return (text, magnitude_only)."""
+    """Strip spaces, unify minus and micro signs; return (text, magnitude_only).
+    A space between two digits is refused: '4 2' is not 42."""
+    if _SPLIT_NUMBER.search(text):
+        raise QuantityError(f"'{one_line(text)}' has a space inside the number; write one "
+                            "number (no thousands separators)")
     s = _SPACES.sub("", text).replace("\u2212", "-").replace("\u03bc", "µ")
     magnitude = False
     for mark in ("±", "+/-", "+-"):

@@ -149,3 +149,15 @@ def test_any_text_gives_a_finite_number_or_our_error(text, unit, comma):
     except PickerError:
         return
     assert math.isfinite(value)
+
+
+@pytest.mark.parametrize("text", ["4 2", "4\n2", "1 000", "2. 5", "0,5 5"])
+def test_a_space_inside_a_number_is_refused_not_merged(text):
+    """Regression: spaces were dropped before reading, so '4 2' became 42."""
+    with pytest.raises(QuantityError, match="space inside the number"):
+        parse_quantity(text, "V", decimal_comma=True)
+
+
+def test_spaces_around_the_number_and_before_the_unit_are_fine():
+    assert parse_quantity(" 4.2 V ", "V") == 4.2
+    assert parse_quantity("25\u00a0mΩ", "mohm") == 25.0
