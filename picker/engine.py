@@ -194,11 +194,11 @@ class RoleResult:
             return None
         return self.frame.iloc[self.order[int(np.argmax(ok))]]
 
-    @property
+    @cached_property
     def feasible(self) -> pd.DataFrame:
         return self._ranked(self.frame["feasible"].to_numpy()[self.order])
 
-    @property
+    @cached_property
     def rejected(self) -> pd.DataFrame:
         return self._ranked(~self.frame["feasible"].to_numpy()[self.order])
 
@@ -250,7 +250,10 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     out["feasible"] = feasible
     out["n_fail"] = n_fail
     out["n_unknown"] = n_unknown
-    frame = pd.DataFrame(out, index=parts.index, copy=False)  # fresh arrays: no copy
+    # A small table is consolidated (later selections are faster); a large one
+    # is not copied at all (the arrays are fresh): copying 10^6 rows x 45
+    # columns costs more than evaluating them.
+    frame = pd.DataFrame(out, index=parts.index, copy=len(parts) < 100_000)
     order = rank(frame, role)
     return RoleResult(role, frame, order, checks, figures, catalog_df, mask)
 

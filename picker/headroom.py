@@ -205,34 +205,31 @@ def lowest_supply(parts: pd.DataFrame, role: Role, req: Requirements, *,
     `lowest_supply_corner` (the corner that sets it). `on_step` is called
     after each engine evaluation (`evaluations()` in all).
     """
-    out = pd.DataFrame(index=parts.index)
     n = len(parts)
     data = engine.PartData(parts)
     both = data.take(np.concatenate([np.arange(n), np.arange(n)]))
     ta_C = np.concatenate([np.full(n, req.ambient.min_C), np.full(n, req.ambient.max_C)])
     V, status, limit = _solve(both, role, req, ta_C, tol_V, on_step or (lambda: None))
-    solved = {c: pd.DataFrame({"V": V[i * n:(i + 1) * n], "status": status[i * n:(i + 1) * n],
-                               "limit": limit[i * n:(i + 1) * n]}, index=parts.index)
-              for i, c in enumerate(CORNERS)}
-    for c, s in solved.items():
-        out[f"lowest_supply_{c}_V"] = s["V"]
-        out[f"lowest_supply_{c}_status"] = s["status"]
-        out[f"lowest_supply_{c}_limit"] = s["limit"]
-    cold, hot = solved["cold"], solved["hot"]
-    cs, hs = cold["status"].to_numpy(), hot["status"].to_numpy()
-    cv, hv = cold["V"].to_numpy(dtype=float), hot["V"].to_numpy(dtype=float)
+    out: dict = {}
+    for i, c in enumerate(CORNERS):
+        part = slice(i * n, (i + 1) * n)
+        out[f"lowest_supply_{c}_V"] = V[part]
+        out[f"lowest_supply_{c}_status"] = status[part]
+        out[f"lowest_supply_{c}_limit"] = limit[part]
+    cs, hs = status[:n], status[n:]
+    cv, hv = V[:n], V[n:]
     # The worse corner: never > unknown > found (the higher voltage) > any.
     rank = {"any": 0, "found": 1, "unknown": 2, "never": 3}
-    cr, hr = np.vectorize(rank.get, otypes=[int])(cs), np.vectorize(rank.get, otypes=[int])(hs)
+    cr = np.array([rank[x] for x in cs], dtype=int)
+    hr = np.array([rank[x] for x in hs], dtype=int)
     both_found = (cs == "found") & (hs == "found")
     higher = np.nan_to_num(hv, nan=-np.inf) > np.nan_to_num(cv, nan=-np.inf)
     hot_worse = np.where(both_found, higher, hr > cr)
-    pick = lambda col: np.where(hot_worse, hot[col].to_numpy(), cold[col].to_numpy())  # noqa: E731
-    out["lowest_supply_V"] = pick("V").astype(float)
-    out["lowest_supply_status"] = pick("status")
-    out["lowest_supply_limit"] = pick("limit")
+    out["lowest_supply_V"] = np.where(hot_worse, hv, cv).astype(float)
+    out["lowest_supply_status"] = np.where(hot_worse, hs, cs)
+    out["lowest_supply_limit"] = np.where(hot_worse, limit[n:], limit[:n])
     out["lowest_supply_corner"] = np.where(hot_worse, "hot", "cold")
-    return out
+    return pd.DataFrame(out, index=parts.index)
 
 
 # -- words -------------------------------------------------------------------------
