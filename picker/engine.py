@@ -271,8 +271,11 @@ def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
     return pd.DataFrame(pass_switch_columns(parts, role, req), index=parts.index)
 
 
-def pass_switch_columns(parts, role: Role, req: Requirements) -> dict:
-    """`pass_switch` as a dict of arrays (no DataFrame made)."""
+def pass_switch_columns(parts, role: Role, req: Requirements, *,
+                        on_state_only: bool = False) -> dict:
+    """`pass_switch` as a dict of arrays (no DataFrame made). `on_state_only`
+    stops after the checks the supply can change (gate drive, drop, Tj): all
+    the lowest-supply search needs."""
     parts = _data(parts)
     out = _identity(parts)
     load_A = role.load_A
@@ -342,6 +345,8 @@ def pass_switch_columns(parts, role: Role, req: Requirements) -> dict:
     known = has_rth & on & np.isfinite(fit.k_ohm_V) & (np.isfinite(tj_limit_C) | ~settled)
     out["check_tj"] = _check(tj_ok, known)
     out["extrapolated"] = on & mosfet.extrapolated(vgs_V, fit.lowest_drive_V)
+    if on_state_only:
+        return out
 
     idss_A = values(parts, "idss_uA") * 1e-6
     out["off_current_A"] = leakage.leakage_at(idss_A, req.ambient.max_C,
@@ -383,8 +388,11 @@ def saturated_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
     return pd.DataFrame(saturated_switch_columns(parts, role, req), index=parts.index)
 
 
-def saturated_switch_columns(parts, role: Role, req: Requirements) -> dict:
-    """`saturated_switch` as a dict of arrays (no DataFrame made)."""
+def saturated_switch_columns(parts, role: Role, req: Requirements, *,
+                             on_state_only: bool = False) -> dict:
+    """`saturated_switch` as a dict of arrays (no DataFrame made).
+    `on_state_only` stops after the saturation check (all the lowest-supply
+    search needs)."""
     parts = _data(parts)
     out = _identity(parts)
     ic_A = role.collector_current_A
@@ -402,6 +410,8 @@ def saturated_switch_columns(parts, role: Role, req: Requirements) -> dict:
     out["overdrive"] = overdrive
     out["check_saturation"] = _limit_check(overdrive, role.overdrive, at_least=True)
     out["extrapolated"] = below_points
+    if on_state_only:
+        return out
 
     sat_points_mA, sat_mV = points(parts, "vce_sat_mV")
     vce_sat_V = bipolar.vce_sat_at_current(sat_points_mA / 1000.0, sat_mV / 1000.0, ic_A)

@@ -91,16 +91,19 @@ def at_supply(parts: pd.DataFrame, role: Role, req: Requirements, supply_V,
     Off-state figures come out at `ambient_C` too.
     """
     data = engine.PartData(parts) if isinstance(parts, pd.DataFrame) else parts
-    return pd.DataFrame(_trial(data, role, req, supply_V, ambient_C), index=data.index)
+    return pd.DataFrame(_trial(data, role, req, supply_V, ambient_C, everything=True),
+                        index=data.index)
 
 
-def _trial(data, role: Role, req: Requirements, supply_V, ambient_C: float) -> dict:
-    """`at_supply` as a dict of arrays, over prepared `engine.PartData`."""
+def _trial(data, role: Role, req: Requirements, supply_V, ambient_C: float, *,
+           everything: bool = False) -> dict:
+    """`at_supply` as a dict of arrays, over prepared `engine.PartData`; only
+    the supply-dependent checks unless `everything`."""
     trial = dataclasses.replace(
         req, supply=dataclasses.replace(req.supply, min_V=supply_V),
         ambient=Ambient(ambient_C, ambient_C))
     evaluate = engine.pass_switch_columns if role.is_pass_switch else engine.saturated_switch_columns
-    return evaluate(data, role, trial)
+    return evaluate(data, role, trial, on_state_only=not everything)
 
 
 def verdict(table: pd.DataFrame, role: Role) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
