@@ -48,6 +48,8 @@ def wall(cmd: list[str], runs: int, env: dict | None = None) -> float:
 
 
 def timed(fn, runs: int) -> float:
+    """Median wall time of `fn()` over `runs` calls, after one warm-up call."""
+    fn()
     times = []
     for _ in range(runs):
         t = time.perf_counter()
@@ -100,7 +102,7 @@ def main(argv: list[str]) -> None:
             "gate_drive_drop": role.gate_drive_drop_V, "ambient_min": req.ambient.min_C,
             "ambient_max": req.ambient.max_C, "load": role.load_A, "max_drop": role.max_drop_V,
             "max_off": role.max_off_current_A, "max_tj": role.max_tj_C, "volume": req.volume}
-    scalar_s = timed(lambda: [scalar_reference.evaluate(p, spec) for p in sample], 1)
+    scalar_s = timed(lambda: [scalar_reference.evaluate(p, spec) for p in sample], 3)
     scalar_rate = len(sample) / scalar_s
     rows.append((f"engine, {big:,} parts, one role", f"{rate / 1e6:.2f} M parts/s ({engine_s:.2f} s)",
                  f"{scalar_rate / 1e3:.1f} k parts/s (per-part Python, 20k slice)",
