@@ -289,14 +289,7 @@ def pass_switch_columns(parts, role: Role, req: Requirements, *,
     drive_V = req.supply.min_V if role.gate_drive_V is None else role.gate_drive_V
     vgs_V = drive_V - role.gate_drive_drop_V
 
-    def pick(value, rows):
-        return value if np.ndim(value) == 0 else value[rows]
-
-    def resistance_of(rows, t_C):
-        # supply.min may also be one value per part (picker.headroom solves with that)
-        return mosfet.on_resistance(pick(vgs_V, rows), t_C, fit.r_fix_ohm[rows],
-                                    fit.k_ohm_V[rows], vt25_V[rows], pick(k_vt, rows),
-                                    pick(a, rows))
+    resistance = mosfet.heated_resistance(vgs_V, fit.r_fix_ohm, fit.k_ohm_V, vt25_V, k_vt, a)
 
     corners = {}
     for corner, ta_C in (("cold", req.ambient.min_C), ("hot", req.ambient.max_C)):
@@ -304,10 +297,9 @@ def pass_switch_columns(parts, role: Role, req: Requirements, *,
             corners["hot"] = corners["cold"]  # one ambient (the lowest-supply search): same figures
             break
         vt_V = mosfet.threshold_at(vt25_V, ta_C, k_vt)
-        tj_C, converged = thermal.solve_junction_temperature(
-            ta_C, load_A, rth, lambda t_C, rows: resistance_of(rows, t_C))
+        tj_C, converged = thermal.solve_junction_temperature(ta_C, load_A, rth, resistance)
         tj_C = np.broadcast_to(tj_C, vt25_V.shape)
-        rds = resistance_of(slice(None), tj_C)
+        rds = resistance(tj_C)
         corners[corner] = dict(vt_V=vt_V, gate_ok=vgs_V >= vt_V + GATE_HEADROOM_V, tj_C=tj_C,
                                converged=np.broadcast_to(converged, vt25_V.shape), rds=rds)
     cold, hot = corners["cold"], corners["hot"]

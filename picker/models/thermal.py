@@ -53,18 +53,24 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
                 idx = np.flatnonzero(active)
             if idx is not None and idx.size == 0 or idx is None and not active.any():
                 break
-            if idx is None:  # every part at once
+            if idx is None:  # every part at once (few temporaries: this is the hot loop)
                 rds_ohm = np.asarray(resistance_at(tj_C, slice(None)) if by_index
                                      else resistance_at(tj_C), dtype=float)
-                new_C = ta_C + heat_C_per_ohm * rds_ohm
-                lost = active & ~np.isfinite(new_C)
+                new_C = heat_C_per_ohm * rds_ohm
+                new_C += ta_C
+                keep = np.isfinite(new_C)
                 if step == 0:
-                    tj_C = np.where(lost, np.nan, tj_C)  # R unknown from the start
-                keep = active & ~lost
-                settled = keep & (np.abs(new_C - tj_C) < tol_C)
-                tj_C = np.where(keep, new_C, tj_C)
+                    tj_C[active & ~keep] = np.nan  # R unknown from the start
+                keep &= active
+                moved = np.subtract(new_C, tj_C)
+                np.abs(moved, out=moved)
+                settled = moved < tol_C
+                settled &= keep
+                np.copyto(tj_C, new_C, where=keep)
                 converged |= settled
-                active = keep & ~settled & ~(new_C > bound_C)
+                keep &= ~settled
+                keep &= ~(new_C > bound_C)
+                active = keep
             else:  # the parts still moving
                 tj_now = tj_C[idx]
                 rds_ohm = np.asarray(resistance_at(tj_now, idx) if by_index
