@@ -11,7 +11,7 @@ import math
 import numpy as np
 import pandas as pd
 
-from picker.engine import FAIL, PASS, UNKNOWN, DesignResult, RoleResult, notes
+from picker.engine import FAIL, PASS, DesignResult, RoleResult, notes
 from picker.quantities import format_quantity as q
 from picker.render import Column, Report, Section
 

@@ -8,7 +8,6 @@ in the unit named by the column key, undecorated on stdout).
 
 from __future__ import annotations
 
-import io
 import json
 import math
 from dataclasses import dataclass, field
