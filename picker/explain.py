@@ -66,14 +66,11 @@ def _fail_text(check: str, row: pd.Series, role, req) -> str:
         return (f"off current {_v(row['off_current_A'], 'A')} > "
                 f"{_v(role.max_off_current_A, 'A')} at {req.ambient.max_C:g} °C")
     if check == "vds_rating":
-        return (f"Vds rating {row['vds_max_V']:g} V × {dv:g} = {row['vds_max_V'] * dv:.3g} V "
-                f"< {req.supply.max_V:g} V supply")
+        return _derated("Vds", row["vds_max_V"], dv, "V", f"{req.supply.max_V:g} V supply")
     if check == "vgs_rating":
-        return (f"Vgs rating {row['vgs_max_V']:g} V × {dv:g} = {row['vgs_max_V'] * dv:.3g} V "
-                f"< {row['gate_swing_V']:g} V gate swing")
+        return _derated("Vgs", row["vgs_max_V"], dv, "V", f"{row['gate_swing_V']:g} V gate swing")
     if check == "id_rating":
-        return (f"Id rating {row['id_max_A']:g} A × {di:g} = {row['id_max_A'] * di:.3g} A "
-                f"< {_v(role.load_A, 'A')} load")
+        return _derated("Id", row["id_max_A"], di, "A", f"{_v(role.load_A, 'A')} load")
     if check == "saturation":
         return (f"Ib·hFE = {_v(row['ib_A'], 'A')} × {row['hfe']:.0f} = "
                 f"{_v(row['ib_A'] * row['hfe'], 'A')} < {role.overdrive:g} × "
@@ -81,12 +78,16 @@ def _fail_text(check: str, row: pd.Series, role, req) -> str:
     if check == "vce_sat":
         return f"Vce(sat) {_v(row['vce_sat_V'], 'V')} > {_v(role.max_vce_sat_V, 'V')}"
     if check == "vceo_rating":
-        return (f"Vceo rating {row['vceo_max_V']:g} V × {dv:g} = {row['vceo_max_V'] * dv:.3g} V "
-                f"< {req.supply.max_V:g} V supply")
+        return _derated("Vceo", row["vceo_max_V"], dv, "V", f"{req.supply.max_V:g} V supply")
     if check == "ic_rating":
         return (f"Ic rating {_v(row['ic_max_A'], 'A')} × {di:g} < "
                 f"{_v(role.collector_current_A, 'A')}")
     return f"{check} fails"
+
+
+def _derated(name: str, rating: float, factor: float, unit: str, limit: str) -> str:
+    """'Vds rating 20 V × 0.8 = 16 V < 24 V supply'."""
+    return f"{name} rating {rating:g} {unit} × {factor:g} = {rating * factor:.3g} {unit} < {limit}"
 
 
 _NEEDS = {
