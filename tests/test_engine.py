@@ -767,9 +767,7 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
     solve = engine.thermal.solve_junction_temperature
 
     def full_recompute(ta_C, current_A, rth, resistance_at, **kw):
-        n = np.broadcast(np.asarray(ta_C), np.asarray(current_A), np.asarray(rth)).size
-        rows = np.arange(n)
-        return solve(ta_C, current_A, rth, lambda t_C: resistance_at(t_C, rows), **kw)
+        return solve(ta_C, current_A, rth, lambda t_C: resistance_at(t_C), **kw)
 
     extra = [part(_heating_part(), part="RUNAWAY", rth_ja_C_per_W=500, **{"rds_on_mohm@4.5V": 1000}),
              part(GOOD_PMOS, part="NO-POINT", **{"rds_on_mohm@4.5V": None, "rds_on_mohm@2.5V": None}),

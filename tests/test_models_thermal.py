@@ -16,7 +16,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from picker.models.mosfet import RDS_TC_PER_C, on_resistance
+from picker.models.mosfet import RDS_TC_PER_C, heated_resistance, on_resistance
 from picker.models.thermal import RUNAWAY_BOUND_C, solve_junction_temperature
 
 TOL_C = 0.01  # the iteration's stopping step, models.md §3
@@ -132,3 +132,43 @@ def test_fixed_point_is_the_closed_form_wherever_it_settles(ta, current, rth, r2
     assert converged[0]
     assert tj_C[0] >= ta
     assert tj_C[0] == pytest.approx(closed_form_C(ta, c_C), abs=TOL_C)
+
+
+def test_narrowing_to_the_moving_parts_changes_nothing():
+    """The solver drops settled parts from its arrays as it goes (when R has
+    `take`, as `mosfet.heated_resistance` gives). Each part's iteration is its
+    own, so the answer must be bit for bit the one of iterating every part at
+    every step. 5,000 seeded parts spread from barely warm to runaway, with
+    channels that are off at Ta and parts without rth or on-resistance."""
+    rng = np.random.default_rng(7)
+    n = 5000
+    vt25 = rng.uniform(0.4, 2.8, n)
+    r_fix = rng.uniform(0.0, 0.2, n)
+    k = rng.uniform(0.0, 0.3, n)
+    r_fix[rng.random(n) < 0.02] = np.nan
+    rth = rng.uniform(50.0, 700.0, n)
+    rth[rng.random(n) < 0.02] = np.nan
+    k_vt = np.where(rng.random(n) < 0.5, np.nan, rng.uniform(0.001, 0.005, n))
+    r = heated_resistance(2.7, r_fix, k, vt25, k_vt, 0.005)
+    for ta_C in (-20.0, 45.0):
+        narrowed = solve_junction_temperature(ta_C, 1.2, rth, r)
+        every_step = solve_junction_temperature(ta_C, 1.2, rth, lambda tj_C: r(tj_C))
+        assert np.array_equal(narrowed[0], every_step[0], equal_nan=True)
+        assert np.array_equal(narrowed[1], every_step[1])
+        assert 0 < np.count_nonzero(~narrowed[1] & np.isfinite(narrowed[0])) < n  # some run away
+        assert np.count_nonzero(narrowed[1]) > n // 2  # most settle
+
+
+def test_heated_resistance_is_on_resistance_with_its_constants_folded():
+    """R(T) of the self-heating solve against `on_resistance` (models.md §1-§2),
+    for all parts and for a subset taken out: equal to rounding."""
+    rng = np.random.default_rng(3)
+    n = 200
+    vt25, r_fix, k = rng.uniform(0.4, 2.0, n), rng.uniform(0.0, 0.1, n), rng.uniform(0.0, 0.2, n)
+    k_vt, a = rng.uniform(0.001, 0.005, n), rng.uniform(0.003, 0.007, n)
+    t_C = rng.uniform(-40.0, 150.0, n)
+    r = heated_resistance(2.5, r_fix, k, vt25, k_vt, a)
+    expected = on_resistance(2.5, t_C, r_fix, k, vt25, k_vt, a)
+    np.testing.assert_allclose(r(t_C), expected, rtol=1e-13)
+    rows = np.flatnonzero(rng.random(n) < 0.3)
+    np.testing.assert_allclose(r.take(rows)(t_C[rows]), expected[rows], rtol=1e-13)

@@ -134,7 +134,7 @@ def on_resistance(vg_V, t_C, r_fix_ohm, k_ohm_V, vt25_V,
 
 
 def heated_resistance(vg_V, r_fix_ohm, k_ohm_V, vt25_V,
-                      k_vt_V_per_C=K_VT_V_PER_C, rds_tc_per_C=RDS_TC_PER_C):
+                      k_vt_V_per_C=K_VT_V_PER_C, rds_tc_per_C=RDS_TC_PER_C) -> "HeatedResistance":
     """``on_resistance`` as a function of junction temperature alone, for the
     self-heating solve, which evaluates it many times at one gate drive.
 
@@ -143,33 +143,46 @@ def heated_resistance(vg_V, r_fix_ohm, k_ohm_V, vt25_V,
     (the overdrive at 0 °C), ``b0 = 1 - 25 a``; NaN where the overdrive
     ``c0 + k_vt T <= 0``. Units and sources as ``on_resistance``; the results
     agree with it to rounding (a few parts in 10^16).
-
-    Returns ``resistance(t_C, rows)`` [ohm] for the parts ``rows`` (an index
-    array or a slice) at junction temperatures ``t_C`` [°C] (one per row).
     """
     k_vt = or_default(k_vt_V_per_C, K_VT_V_PER_C)
     a = or_default(rds_tc_per_C, RDS_TC_PER_C)
     c0 = np.asarray(vg_V, dtype=float) - np.asarray(vt25_V, dtype=float) - 25.0 * k_vt
-    b0 = 1.0 - 25.0 * a
-    r_fix = np.asarray(r_fix_ohm, dtype=float)
-    k = np.asarray(k_ohm_V, dtype=float)
+    return HeatedResistance(c0, k_vt, np.asarray(r_fix_ohm, dtype=float),
+                            np.asarray(k_ohm_V, dtype=float), a, 1.0 - 25.0 * a)
 
-    def pick(value, rows):
-        return value if np.ndim(value) == 0 else value[rows]
 
-    def resistance(t_C, rows=slice(None)):
+@dataclass(frozen=True)
+class HeatedResistance:
+    """``R(T) = (r_fix + k / (c0 + k_vt T)) (b0 + a T)`` [ohm] per part (see
+    `heated_resistance`); each constant a scalar or one value per part."""
+
+    c0: object
+    k_vt: object
+    r_fix: object
+    k: object
+    a: object
+    b0: object
+
+    def __call__(self, t_C):
+        """R [ohm] at junction temperatures t_C [°C], one per part."""
         t_C = np.asarray(t_C, dtype=float)
-        overdrive_V = pick(k_vt, rows) * t_C
-        overdrive_V += pick(c0, rows)
+        overdrive_V = self.k_vt * t_C
+        overdrive_V += self.c0
         with np.errstate(divide="ignore", invalid="ignore"):
-            r_ohm = np.divide(pick(k, rows), overdrive_V)
-        r_ohm += pick(r_fix, rows)
-        r_ohm *= pick(a, rows) * t_C + pick(b0, rows)
-        r_ohm[overdrive_V <= 0] = np.nan
-        r_ohm[np.isnan(overdrive_V)] = np.nan
+            r_ohm = np.divide(self.k, overdrive_V)
+        r_ohm += self.r_fix
+        factor = self.a * t_C
+        factor += self.b0
+        r_ohm *= factor
+        on = overdrive_V > 0
+        if not on.all():
+            r_ohm[~on] = np.nan  # the channel is off (or the overdrive unknown)
         return r_ohm
 
-    return resistance
+    def take(self, rows) -> "HeatedResistance":
+        """The same for the parts `rows` (an index array, or a slice) only."""
+        return HeatedResistance(*(v if np.ndim(v) == 0 else v[rows] for v in (
+            self.c0, self.k_vt, self.r_fix, self.k, self.a, self.b0)))
 
 
 def extrapolated(vg_V, lowest_drive_V):

@@ -1,7 +1,5 @@
 """Self-heating: junction temperature of a conducting part (models.md §3)."""
 
-import inspect
-
 import numpy as np
 
 RUNAWAY_BOUND_C = 1000.0  # a junction past this is in thermal runaway: stop iterating
@@ -16,9 +14,11 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
 
     ta_C [°C] ambient, current_A [A] on-state current, rth_C_per_W [°C/W]
     theta_JA: scalars or shape (n,). resistance_at(tj_C) -> rds_ohm [ohm] for
-    the full (n,) array of Tj; or resistance_at(tj_C, idx) -> rds_ohm for the
-    parts `idx` (an index array) only, which lets each step work on the parts
-    still moving (the engine's form: most parts settle in a few steps).
+    the (n,) array of Tj. If it also has ``take(rows)`` (the same function for
+    the parts at the positions `rows`, as `mosfet.heated_resistance` gives), the work
+    narrows to the parts still moving each time they fall below half of those
+    being iterated: most parts settle in a few steps. Each part's iteration
+    is its own, so narrowing changes the time, not the result.
     tj_limit_C [°C]: the runaway bound, default RUNAWAY_BOUND_C; a part past
     it stops iterating and is not converged. It is not the ``tj`` check limit
     (the engine compares Tj with that), so pass a bound well above it.
@@ -39,46 +39,41 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
     ta_C, current_A, rth_C_per_W = np.broadcast_arrays(
         *(np.atleast_1d(np.asarray(v, dtype=float)) for v in (ta_C, current_A, rth_C_per_W)))
     heat_C_per_ohm = current_A ** 2 * rth_C_per_W  # Tj = Ta + heat * R
-    no_rth = np.isnan(rth_C_per_W)
     tj_C = ta_C.copy()
-    converged = no_rth.copy()
-    by_index = len(inspect.signature(resistance_at).parameters) >= 2
-    # While most parts are still moving, whole arrays are cheapest; once fewer
-    # than half are, the work continues on the index list of those parts.
-    active = ~no_rth
-    idx = None
+    converged = np.isnan(rth_C_per_W)  # no rth: the figures at Ta, nothing to iterate
+    narrows = hasattr(resistance_at, "take")
+    # The parts being iterated: their positions, Tj, data and state. Parts
+    # that stop stay (frozen) until the next narrowing drops them.
+    rows = np.arange(tj_C.size)
+    tj, ta, heat, done = tj_C.copy(), ta_C, heat_C_per_ohm, converged.copy()
+    moving = ~done
     with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
         for step in range(max_steps):
-            if idx is None and np.count_nonzero(active) < active.size // 2:
-                idx = np.flatnonzero(active)
-            if idx is not None and idx.size == 0 or idx is None and not active.any():
+            n_moving = np.count_nonzero(moving)
+            if n_moving == 0:
                 break
-            if idx is None:  # every part at once (few temporaries: this is the hot loop)
-                rds_ohm = np.asarray(resistance_at(tj_C, slice(None)) if by_index
-                                     else resistance_at(tj_C), dtype=float)
-                new_C = heat_C_per_ohm * rds_ohm
-                new_C += ta_C
-                keep = np.isfinite(new_C)
-                if step == 0:
-                    tj_C[active & ~keep] = np.nan  # R unknown from the start
-                keep &= active
-                moved = np.subtract(new_C, tj_C)
-                np.abs(moved, out=moved)
-                settled = moved < tol_C
-                settled &= keep
-                np.copyto(tj_C, new_C, where=keep)
-                converged |= settled
-                keep &= ~settled
-                keep &= ~(new_C > bound_C)
-                active = keep
-            else:  # the parts still moving
-                tj_now = tj_C[idx]
-                rds_ohm = np.asarray(resistance_at(tj_now, idx) if by_index
-                                     else resistance_at(tj_C)[idx], dtype=float)
-                new_C = ta_C[idx] + heat_C_per_ohm[idx] * rds_ohm
-                keep = np.isfinite(new_C)
-                settled = keep & (np.abs(new_C - tj_now) < tol_C)
-                tj_C[idx[keep]] = new_C[keep]
-                converged[idx[settled]] = True
-                idx = idx[keep & ~settled & ~(new_C > bound_C)]
+            if narrows and n_moving < moving.size // 2:
+                tj_C[rows], converged[rows] = tj, done  # the stopped parts' results
+                keep = np.flatnonzero(moving)  # (an index takes faster than a mask)
+                rows, tj, ta, heat = rows[keep], tj[keep], ta.take(keep), heat.take(keep)
+                resistance_at = resistance_at.take(keep)
+                done = np.zeros(n_moving, dtype=bool)
+                moving = np.ones(n_moving, dtype=bool)
+            new_C = np.asarray(resistance_at(tj), dtype=float)
+            new_C *= heat
+            new_C += ta
+            keep = np.isfinite(new_C)
+            if step == 0:
+                tj[moving & ~keep] = np.nan  # R unknown from the start
+            keep &= moving
+            moved = np.subtract(new_C, tj)
+            np.abs(moved, out=moved)
+            settled = moved < tol_C
+            settled &= keep
+            tj = np.where(keep, new_C, tj)
+            done |= settled
+            keep ^= settled  # (settled parts are among those kept)
+            keep &= new_C <= bound_C  # (new_C is finite where keep is set)
+            moving = keep
+    tj_C[rows], converged[rows] = tj, done
     return tj_C, converged
