@@ -25,6 +25,11 @@ def leakage_at(i25_A, t_C, hot_A=None, hot_C=None):
     hot_rise_C = np.asarray(hot_C, dtype=float) - 25.0
     usable = (np.isfinite(hot_A) & np.isfinite(hot_rise_C) & (hot_rise_C != 0)
               & (i25_A > 0) & (hot_A > 0))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        two_point_A = i25_A * (hot_A / i25_A) ** (rise_C / hot_rise_C)
-    return np.where(usable, two_point_A, doubling_A)
+    # The power only where it is used (it is the slow part): the same values.
+    i25_A, hot_A, rise_C, hot_rise_C, usable, doubling_A = np.broadcast_arrays(
+        i25_A, hot_A, rise_C, hot_rise_C, usable, doubling_A)
+    out_A = doubling_A.copy()
+    if usable.any():
+        out_A[usable] = i25_A[usable] * (hot_A[usable] / i25_A[usable]) ** (
+            rise_C[usable] / hot_rise_C[usable])
+    return out_A
