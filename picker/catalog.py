@@ -420,14 +420,16 @@ def values(df: pd.DataFrame, name: str, default: float = np.nan) -> np.ndarray:
     return out if default != default else np.where(np.isfinite(out), out, default)
 
 
-def points(df: pd.DataFrame, prefix: str) -> tuple[np.ndarray, np.ndarray]:
+def points(df: pd.DataFrame, prefix: str, column=None) -> tuple[np.ndarray, np.ndarray]:
     """(conditions (m,), values (n, m)) of one point family, conditions ascending.
-    Missing points are NaN. With no such column: shapes (0,) and (n, 0)."""
+    Missing points are NaN. With no such column: shapes (0,) and (n, 0).
+    `column(name)` gives a column's values (default: `values(df, name)`)."""
     found = cols.point_columns(df.columns, prefix)
     conditions = np.array([c for c, _ in found], dtype=float)
     if not found:
         return conditions, np.empty((len(df), 0))
-    matrix = np.column_stack([values(df, name) for _, name in found])
+    column = column or (lambda name: values(df, name))
+    matrix = np.column_stack([column(name) for _, name in found])
     return conditions, matrix
 
 

@@ -19,6 +19,7 @@ from functools import cached_property
 import numpy as np
 import pandas as pd
 
+from picker import parallel
 from picker.catalog import points as _catalog_points
 from picker.catalog import values as _catalog_values
 from picker.models import bipolar, leakage, mosfet, pricing, thermal
@@ -29,17 +30,22 @@ PASS, FAIL, UNKNOWN = 1, 0, -1
 OUTCOME = {PASS: "pass", FAIL: "fail", UNKNOWN: "unknown"}
 GATE_HEADROOM_V = 0.1  # models.md §6: vgs must exceed Vt(Ta) by this much
 HOURS_PER_YEAR = 8766.0  # 365.25 days
+BLOCK_ROWS = 65_536  # parts evaluated together (see `in_blocks`)
 
 # The catalogue columns the models read (besides the '@' point families).
 MODEL_COLUMNS = {"part", "maker", "package", "preferred", "status", "vds_max_V", "vgs_max_V",
                  "id_max_A", "vgs_th_max_V", "vgs_th_tc_mV/C", "rds_tc_pct/C", "idss_uA",
                  "idss_hot_uA", "idss_hot_C", "vceo_max_V", "ic_max_A", "vbe_on_V", "icbo_nA",
                  "icbo_hot_nA", "icbo_hot_C", "rth_ja_C/W", "tj_max_C"}
+TEXT_COLUMNS = {"part", "maker", "package", "preferred", "status"}
 PASS_SWITCH_CHECKS = ("gate_drive", "drop", "tj", "off_current", "vds_rating", "vgs_rating",
                       "id_rating")
 SWITCH_CHECKS = ("saturation", "vce_sat", "off_current", "vceo_rating", "ic_rating")
 PASS_SWITCH_FIGURES = ("vgs_V", "rds_on_ohm", "drop_V", "loss_W", "tj_C", "off_current_A", "corner")
 SWITCH_FIGURES = ("ib_A", "hfe", "vce_sat_V", "off_current_A")
+# Catalogue values a candidate row carries as they are (the reasons quote them).
+PASS_SWITCH_RATINGS = ("vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "rth_ja_C/W", "tj_max_C")
+SWITCH_RATINGS = ("vceo_max_V", "ic_max_A", "icbo_nA")
 NOTE_FLAGS = {  # flag column -> note text
     "extrapolated": "extrapolated",
     "below_first_break": "below first break",
@@ -84,7 +90,7 @@ class PartData:
         only, or no prices) gets one all-blank column, so the models see "no
         point" (unknown) instead of an empty array they cannot reduce."""
         def make():
-            conditions, matrix = _catalog_points(self.df, prefix)
+            conditions, matrix = _catalog_points(self.df, prefix, self.values)
             if conditions.size == 0:
                 return np.array([np.nan]), np.full((len(self.df), 1), np.nan)
             return conditions, matrix
@@ -104,6 +110,14 @@ class PartData:
             out["nrnd"] = (df["status"] == "nrnd").to_numpy(dtype=bool)
             return out
         return self._get(("identity",), make)
+
+    def prefetch(self) -> None:
+        """Every numeric column the models read as an array now (`take` then
+        hands out slices of them)."""
+        self.identity()
+        for name in self.df.columns:
+            if "@" in name or name in MODEL_COLUMNS and name not in TEXT_COLUMNS:
+                self.values(name)
 
     def fit(self) -> mosfet.OnResistanceFit:
         """The on-resistance fit (models.md §1) of these parts."""
@@ -142,7 +156,8 @@ def points(parts, prefix: str) -> tuple[np.ndarray, np.ndarray]:
 
 def _check(ok: np.ndarray, known: np.ndarray) -> np.ndarray:
     """Outcome codes from a boolean test and where its inputs are known."""
-    return np.where(known, np.where(ok, PASS, FAIL), UNKNOWN).astype(np.int8)
+    ok = np.asarray(ok, dtype=bool).astype(np.int8)  # PASS = 1, FAIL = 0
+    return np.where(known, ok, np.int8(UNKNOWN))
 
 
 def _limit_check(value: np.ndarray, limit: float, *, at_least: bool = False) -> np.ndarray:
@@ -224,32 +239,16 @@ def evaluate(catalog_df: pd.DataFrame, req: Requirements) -> DesignResult:
 def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> RoleResult:
     """All catalogue parts of the role's kind: figures, checks, notes, rank."""
     mask = (catalog_df["kind"] == role.kind).to_numpy(dtype=bool)
-    model_columns = [c for c in catalog_df.columns if c in MODEL_COLUMNS or "@" in c]
-    parts = PartData(catalog_df[model_columns] if mask.all()
-                     else catalog_df.loc[mask, model_columns])
+    if mask.all():
+        parts = PartData(catalog_df)
+    else:
+        model_columns = [c for c in catalog_df.columns if c in MODEL_COLUMNS or "@" in c]
+        parts = PartData(catalog_df.loc[mask, model_columns])
+    checks, figures = role_checks(role)
     # Columns are gathered in a dict and made a DataFrame once: inserting
     # some 45 columns one by one costs more than all the models together.
-    if role.is_pass_switch:
-        out, checks, figures = pass_switch_columns(parts, role, req), PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES
-    else:
-        out, checks, figures = saturated_switch_columns(parts, role, req), SWITCH_CHECKS, SWITCH_FIGURES
-        if role.max_vce_sat_V is None:
-            checks = tuple(c for c in checks if c != "vce_sat")
-    if role.max_off_current_A is None:
-        checks = tuple(c for c in checks if c != "off_current")
-    _price(out, parts, role, req)
-    # Column by column: a reduction along a short row axis is slow in numpy.
-    feasible = np.ones(len(parts), dtype=bool)
-    n_fail = np.zeros(len(parts), dtype=np.int64)
-    n_unknown = np.zeros(len(parts), dtype=np.int64)
-    for c in checks:
-        code = np.asarray(out[f"check_{c}"])
-        feasible &= code == PASS
-        n_fail += code == FAIL
-        n_unknown += code == UNKNOWN
-    out["feasible"] = feasible
-    out["n_fail"] = n_fail
-    out["n_unknown"] = n_unknown
+    out = catalogue_columns(parts, role)
+    out.update(in_blocks(parts, lambda block: _role_columns(block, role, req, checks)))
     # A small table is consolidated (later selections are faster); a large one
     # is not copied at all (the arrays are fresh): copying 10^6 rows x 45
     # columns costs more than evaluating them.
@@ -258,9 +257,78 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     return RoleResult(role, frame, order, checks, figures, catalog_df, mask)
 
 
-def _identity(parts: PartData) -> dict:
-    """The descriptive columns every candidate row carries (a fresh dict)."""
-    return dict(parts.identity())
+def role_checks(role: Role) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """The checks that decide the role (those its requirements ask for) and
+    the figures reported for it."""
+    if role.is_pass_switch:
+        checks, figures = PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES
+    else:
+        checks, figures = SWITCH_CHECKS, SWITCH_FIGURES
+        if role.max_vce_sat_V is None:
+            checks = tuple(c for c in checks if c != "vce_sat")
+    if role.max_off_current_A is None:
+        checks = tuple(c for c in checks if c != "off_current")
+    return checks, figures
+
+
+def _role_columns(parts: PartData, role: Role, req: Requirements, checks) -> dict:
+    """Figures, check outcomes, price and verdict of `parts` (none of the
+    columns `catalogue_columns` gives)."""
+    columns = pass_switch_columns if role.is_pass_switch else saturated_switch_columns
+    out = columns(parts, role, req, catalogue=False)
+    _price(out, parts, role, req)
+    # Column by column: a reduction along a short row axis is slow in numpy.
+    feasible = np.ones(len(parts), dtype=bool)
+    n_fail = np.zeros(len(parts), dtype=np.int8)  # a handful of checks
+    n_unknown = np.zeros(len(parts), dtype=np.int8)
+    for c in checks:
+        code = np.asarray(out[f"check_{c}"])
+        feasible &= code == PASS
+        n_fail += code == FAIL
+        n_unknown += code == UNKNOWN
+    out["feasible"] = feasible
+    out["n_fail"] = n_fail
+    out["n_unknown"] = n_unknown
+    return out
+
+
+def in_blocks(parts: PartData, columns) -> dict:
+    """``columns(parts)`` (a dict of per-part arrays, or of scalars that are
+    the same for every part) computed BLOCK_ROWS parts at a time, on the
+    CPU's cores (`picker.parallel`), and joined.
+
+    The result is the same as one call over all parts; the time is not: numpy
+    makes a fresh array for every step of a formula, and on 10^6 parts each
+    is 8 MB, well past the CPU caches, and new memory the system must map.
+    On blocks of 65,536 parts the arrays stay in the cache and their memory
+    is reused.
+    """
+    n = len(parts)
+    if n <= 2 * BLOCK_ROWS:
+        return columns(parts)
+    parts.prefetch()  # the blocks slice the arrays: no pandas per block
+    blocks = [parts.take(slice(lo, min(n, lo + BLOCK_ROWS))) for lo in range(0, n, BLOCK_ROWS)]
+    pieces = parallel.map_blocks(columns, blocks)
+    out = {}
+    for name, first in pieces[0].items():
+        if isinstance(first, pd.Categorical):
+            out[name] = pd.Categorical.from_codes(
+                np.concatenate([p[name].codes for p in pieces]), dtype=first.dtype)
+        elif np.ndim(first) == 0:  # a figure the same for every part (vgs_V, quantity, ...)
+            out[name] = first
+        else:
+            out[name] = np.concatenate([p[name] for p in pieces])
+    return out
+
+
+def catalogue_columns(parts: PartData, role: Role) -> dict:
+    """The columns a candidate row carries from the catalogue as they are:
+    part, maker, package, preferred, status, the eol / nrnd flags and the
+    ratings of the role's kind (a fresh dict)."""
+    out = dict(parts.identity())
+    for name in PASS_SWITCH_RATINGS if role.is_pass_switch else SWITCH_RATINGS:
+        out[name] = values(parts, name)
+    return out
 
 
 def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
@@ -272,12 +340,13 @@ def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
 
 
 def pass_switch_columns(parts, role: Role, req: Requirements, *,
-                        on_state_only: bool = False) -> dict:
+                        on_state_only: bool = False, catalogue: bool = True) -> dict:
     """`pass_switch` as a dict of arrays (no DataFrame made). `on_state_only`
     stops after the checks the supply can change (gate drive, drop, Tj): all
-    the lowest-supply search needs."""
+    the lowest-supply search needs. `catalogue=False` leaves out the columns
+    `catalogue_columns` gives."""
     parts = _data(parts)
-    out = _identity(parts)
+    out = dict(parts.identity()) if catalogue else {}
     load_A = role.load_A
     vt25_V = values(parts, "vgs_th_max_V")
     fit = parts.fit()
@@ -351,8 +420,9 @@ def pass_switch_columns(parts, role: Role, req: Requirements, *,
     # The gate swings the whole rail when it turns on (models.md §6); a gate
     # drive above the rail swings that much instead.
     gate_swing_V = max(req.supply.max_V, role.gate_drive_V or 0.0)
-    for name in ("vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "rth_ja_C/W", "tj_max_C"):
-        out[name] = values(parts, name)
+    if catalogue:
+        for name in PASS_SWITCH_RATINGS:
+            out[name] = values(parts, name)
     out["gate_swing_V"] = gate_swing_V
     out["settled"] = settled
     out["check_vds_rating"] = _limit_check(values(parts, "vds_max_V") * derate_v,
@@ -381,12 +451,12 @@ def saturated_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
 
 
 def saturated_switch_columns(parts, role: Role, req: Requirements, *,
-                             on_state_only: bool = False) -> dict:
+                             on_state_only: bool = False, catalogue: bool = True) -> dict:
     """`saturated_switch` as a dict of arrays (no DataFrame made).
     `on_state_only` stops after the saturation check (all the lowest-supply
-    search needs)."""
+    search needs); `catalogue` as `pass_switch_columns`."""
     parts = _data(parts)
-    out = _identity(parts)
+    out = dict(parts.identity()) if catalogue else {}
     ic_A = role.collector_current_A
     cold_C = req.ambient.min_C
     drive_V = req.supply.min_V if role.base_drive_V is None else role.base_drive_V
@@ -424,8 +494,9 @@ def saturated_switch_columns(parts, role: Role, req: Requirements, *,
     if role.max_off_current_A is not None:
         out["check_off_current"] = _limit_check(out["off_current_A"],
                                                 role.max_off_current_A)
-    for name in ("vceo_max_V", "ic_max_A", "icbo_nA"):
-        out[name] = values(parts, name)
+    if catalogue:
+        for name in SWITCH_RATINGS:
+            out[name] = values(parts, name)
     out["check_vceo_rating"] = _limit_check(values(parts, "vceo_max_V") * req.margins.derate_v,
                                             req.supply.max_V, at_least=True)
     out["check_ic_rating"] = _limit_check(values(parts, "ic_max_A") * req.margins.derate_i,
@@ -464,8 +535,7 @@ def rank(out: pd.DataFrame, role: Role) -> np.ndarray:
     chosen = chosen[np.lexsort((figure[chosen], not_preferred[chosen], cost[chosen]))]
     unpriced = unpriced[np.lexsort((figure[unpriced], not_preferred[unpriced]))]
     rest = rest[np.argsort(cost[rest], kind="stable")]  # most parts are here: two cheap sorts
-    n_fail = out["n_fail"].to_numpy()[rest].astype(np.int16)  # a handful of checks
-    rest = rest[np.argsort(n_fail, kind="stable")]
+    rest = rest[np.argsort(out["n_fail"].to_numpy()[rest], kind="stable")]  # int8: a radix sort
     order = np.concatenate((chosen, unpriced, rest))
     rank_of_row = np.empty(len(order), dtype=np.int64)
     rank_of_row[order] = np.arange(1, len(order) + 1)

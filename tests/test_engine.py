@@ -784,3 +784,43 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
         monkeypatch.undo()
         for a, b in zip(fast, slow):
             pd.testing.assert_frame_equal(a, b)
+
+
+@pytest.mark.parametrize("threads", ["1", "3"])
+def test_blocks_and_threads_give_the_same_table_as_one_pass(monkeypatch, threads):
+    """Regression for a speed-up: a large catalogue is evaluated in blocks of
+    rows, on several threads (`engine.in_blocks`, `picker.parallel`). Blocks of
+    4 parts make the demo catalogue take that path; every value, dtype and the
+    rank order must match one pass over all parts. Both role families, and a
+    role with every optional check."""
+    from conftest import DEMO
+
+    from picker import engine
+
+    demo = load_catalog(DEMO, source="test").df
+    req = requirements(pass_role(load="1.2 A", extra='gate_drive_drop = "0.3 V"\nmax_tj = "85 degC"'),
+                       pass_role(name="low", refs='["Q2"]', use="low-side-nmos", load="0.4 A",
+                                 extra='gate_drive = "1.8 V"'),
+                       switch_role(refs='["Q3"]', extra='max_vce_sat = "0.2 V"'),
+                       switch_role(name="pnp", refs='["Q4"]', use="pnp-switch"))
+    whole = [run_role(demo, req, i) for i in range(len(req.roles))]
+    monkeypatch.setattr(engine, "BLOCK_ROWS", 4)
+    monkeypatch.setenv("PICKER_THREADS", threads)
+    blocked = [run_role(demo, req, i) for i in range(len(req.roles))]
+    for a, b in zip(whole, blocked):
+        assert len(a.frame) > 2 * 4  # the blocked path was taken
+        pd.testing.assert_frame_equal(a.table, b.table)
+        assert np.array_equal(a.order, b.order)
+
+
+def test_thread_count_comes_from_the_environment(monkeypatch):
+    """PICKER_THREADS sets the threads (1 turns them off); anything but a
+    whole number >= 1 falls back to the CPUs this process may use."""
+    from picker import parallel
+
+    monkeypatch.setenv("PICKER_THREADS", "3")
+    assert parallel.workers() == 3
+    assert parallel.map_blocks(lambda x: x * x, [1, 2, 3, 4]) == [1, 4, 9, 16]
+    for text in ("0", "-2", "many", ""):
+        monkeypatch.setenv("PICKER_THREADS", text)
+        assert parallel.workers() >= 1
