@@ -519,9 +519,9 @@ def _price(out: dict, parts: PartData, role: Role, req: Requirements) -> None:
 def rank(out: pd.DataFrame, role: Role) -> np.ndarray:
     """models.md §8: feasible by cost, then preferred first, then drop (or
     Vce(sat)); then feasible parts with no price (preferred, then drop); then
-    the rest, fewest failed checks first, then by cost. Remaining ties keep
-    catalogue order. Adds a `rank` column to `out` (1 = best) and returns the
-    row positions best first."""
+    the rest, fewest failed checks first. Remaining ties keep catalogue
+    order. Adds a `rank` column to `out` (1 = best) and returns the row
+    positions best first."""
     feasible = out["feasible"].to_numpy(dtype=bool)
     cost = np.nan_to_num(out["cost"].to_numpy(dtype=float), nan=np.inf)
     priced = np.isfinite(cost)
@@ -534,8 +534,8 @@ def rank(out: pd.DataFrame, role: Role) -> np.ndarray:
     # np.lexsort: the last key first; every sort is stable, so ties keep row order
     chosen = chosen[np.lexsort((figure[chosen], not_preferred[chosen], cost[chosen]))]
     unpriced = unpriced[np.lexsort((figure[unpriced], not_preferred[unpriced]))]
-    rest = rest[np.argsort(cost[rest], kind="stable")]  # most parts are here: two cheap sorts
-    rest = rest[np.argsort(out["n_fail"].to_numpy()[rest], kind="stable")]  # int8: a radix sort
+    # most parts are here; n_fail is int8, which numpy sorts stably by radix
+    rest = rest[np.argsort(out["n_fail"].to_numpy()[rest], kind="stable")]
     order = np.concatenate((chosen, unpriced, rest))
     rank_of_row = np.empty(len(order), dtype=np.int64)
     rank_of_row[order] = np.arange(1, len(order) + 1)
