@@ -16,16 +16,20 @@ replaced by one trial voltage per part and both ambient corners set to the
 corner being solved, so the fit, the temperature coefficients, self-heating
 and the gate-drive rule are exactly those `picker choose` uses.
 
-Method: vectorised bisection over every part at once. A part is first tried at
-the top of the search range (`SEARCH_TOP_FACTOR` x supply.max); the parts that
-work there are bisected between 0 V (nothing conducts) and that top until the
-bracket is narrower than `tol_V` (default 10 µV: 20 halvings of 8.4 V). The
-figure reported is the upper end of the final bracket: a voltage at which the
-engine says the part works, at most `tol_V` above one at which it does not.
-Bisection needs only that working is monotone in the supply (more supply,
-more drive, never less); it holds in the models of models.md, as the
-on-resistance falls and the base current rises with the drive at every
-temperature.
+Method: a vectorised multi-point bracket search over every part at once. A
+part is first tried at the top of the search range (`SEARCH_TOP_FACTOR` x
+supply.max); for the parts that work there the bracket runs from 0 V (nothing
+conducts) to that top. Each pass tries k - 1 equally spaced voltages inside
+every part's bracket in one engine evaluation (the parts repeated side by
+side) and keeps the stretch between the last one that fails and the first one
+that works, until the bracket is narrower than `tol_V` (default 10 µV: with
+k = 32, four passes over 8.4 V; k falls to 2, plain bisection, when the parts
+are so many that the trials would not fit in `TRIAL_ROWS`). The figure
+reported is the upper end of the final bracket: a voltage at which the engine
+says the part works, at most `tol_V` above one at which it does not. The
+search needs only that working is monotone in the supply (more supply, more
+drive, never less); it holds in the models of models.md, as the on-resistance
+falls and the base current rises with the drive at every temperature.
 
 What the figure means when the drive does not come from the cell: with a
 fixed `gate_drive` (or `base_drive`) voltage, nothing the models compute
@@ -61,7 +65,9 @@ from picker import engine
 from picker.engine import FAIL, PASS, UNKNOWN
 from picker.requirements import Ambient, Requirements, Role
 
-TOL_V = 1e-5  # bisection stops when the bracket is narrower than this (10 µV)
+TOL_V = 1e-5  # the search stops when the bracket is narrower than this (10 µV)
+MAX_SECTIONS = 32  # each pass tries 31 voltages per part inside its bracket ...
+TRIAL_ROWS = 65_536  # ... while a pass evaluates at most this many rows
 SEARCH_TOP_FACTOR = 2.0  # the search runs from 0 V up to this times supply.max
 STATUSES = ("found", "any", "never", "unknown")
 CORNERS = ("cold", "hot")
@@ -168,32 +174,53 @@ def _solve(data, role: Role, req: Requirements, ta_C, tol_V: float, step):
     active = np.flatnonzero(works)
     if active.size == 0:
         return V, status, limit
-    sub = data.take(active)
-    sub_ta = ta_C if np.ndim(ta_C) == 0 else np.asarray(ta_C)[active]
-    lo = np.zeros(active.size)
-    hi = np.full(active.size, top)
-    lo_limit = np.full(active.size, "", dtype=object)
-    for _ in range(steps_for(top, tol_V)):
-        mid = 0.5 * (lo + hi)
-        ok, why, _ = verdict(_trial(sub, role, req, mid, sub_ta), role)
-        hi = np.where(ok, mid, hi)
-        lo = np.where(ok, lo, mid)
-        lo_limit = np.where(ok, lo_limit, why)
+    m = active.size
+    k = sections(n)  # from all rows, so `evaluations` can tell the count beforehand
+    fractions = np.arange(1, k) / k  # the k - 1 trial points inside each bracket
+    rows = np.repeat(np.arange(m), k - 1)  # every part k - 1 times, side by side
+    trials = data.take(active[rows])
+    trial_ta = ta_C if np.ndim(ta_C) == 0 else np.asarray(ta_C)[active[rows]]
+    lo = np.zeros(m)
+    hi = np.full(m, top)
+    lo_limit = np.full(m, "", dtype=object)
+    each = np.arange(m)
+    for _ in range(passes_for(top, tol_V, k)):
+        v = lo[:, None] + (hi - lo)[:, None] * fractions  # (m, k - 1), ascending
+        ok, why, _ = verdict(_trial(trials, role, req, v.ravel(), trial_ta), role)
+        ok, why = ok.reshape(m, k - 1), why.reshape(m, k - 1)
+        # Working is monotone in the supply: the first trial point that works
+        # is the new top of the bracket, the one before it the new bottom.
+        first = np.where(ok.any(axis=1), ok.argmax(axis=1), k - 1)  # k - 1: none works
+        below = first - 1
+        hi = np.where(first < k - 1, v[each, np.minimum(first, k - 2)], hi)
+        lo = np.where(below >= 0, v[each, np.maximum(below, 0)], lo)
+        lo_limit = np.where(below >= 0, why[each, np.maximum(below, 0)], lo_limit)
         step()
     V[active] = hi
     limit[active] = lo_limit
     return V, status, limit
 
 
-def steps_for(top_V: float, tol_V: float) -> int:
-    """Halvings needed to bring a bracket of width top_V below tol_V."""
-    return max(1, math.ceil(math.log2(top_V / tol_V)))
+def sections(n_parts: int) -> int:
+    """Into how many equal parts each pass cuts a part's bracket: up to
+    MAX_SECTIONS, as long as the trials of one pass (n_parts x (sections - 1))
+    stay within TRIAL_ROWS; 2 (bisection) for very many parts."""
+    return int(max(2, min(MAX_SECTIONS, TRIAL_ROWS // max(n_parts, 1) + 1)))
 
 
-def evaluations(role: Role, req: Requirements, tol_V: float = TOL_V) -> int:
-    """How many engine evaluations `lowest_supply` makes (for a progress bar):
-    both corners are solved together, the parts stacked twice."""
-    return 1 + (steps_for(search_top_V(req), tol_V) if supply_driven(role) else 0)
+def passes_for(top_V: float, tol_V: float, k: int = 2) -> int:
+    """Passes that cut a bracket of width top_V into k parts each time until it
+    is narrower than tol_V."""
+    return max(1, math.ceil(math.log(top_V / tol_V) / math.log(k) - 1e-9))
+
+
+def evaluations(role: Role, req: Requirements, tol_V: float = TOL_V, n_parts: int = 1) -> int:
+    """How many engine evaluations `lowest_supply` makes for `n_parts` parts
+    (for a progress bar): both corners are solved together, the parts stacked
+    twice."""
+    if not supply_driven(role):
+        return 1
+    return 1 + passes_for(search_top_V(req), tol_V, sections(2 * n_parts))
 
 
 def lowest_supply(parts: pd.DataFrame, role: Role, req: Requirements, *,

@@ -69,8 +69,11 @@ def pass_role(drop="60 mV", drive="supply", gdd="0.1 V"):
     return requirements(PASS_ROLE.format(drop=drop, drive=drive, gdd=gdd))
 
 
-def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path):
-    """k_vt = 0 (vgs_th_tc_mV/C = 0) and no rth_ja (Tj = Ta), so at the boundary
+@pytest.mark.parametrize("trial_rows", [headroom.TRIAL_ROWS, 1])
+def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path, monkeypatch,
+                                                                     trial_rows):
+    """Both search forms: 32 sections a pass, and plain bisection (what very
+    many parts get, here forced by allowing 1 trial row). k_vt = 0 (vgs_th_tc_mV/C = 0) and no rth_ja (Tj = Ta), so at the boundary
     the drop equals max_drop exactly and
 
         I * m * (R_fix + K / (V - gdd - Vt)) = max_drop
@@ -90,9 +93,12 @@ def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path):
     The gate check (vgs >= Vt + 0.1 V = 1.1 V) holds at both, so the drop binds;
     the worse corner is the hot one.
     """
+    monkeypatch.setattr(headroom, "TRIAL_ROWS", trial_rows)
     df = catalog(tmp_path, "HRP-1,Testa,pmos,SOT-23,20,8,3,1.0,0,40,60,1,,150,0.1\n")
     req = pass_role()
-    low = headroom.lowest_supply(df, req.roles[0], req).iloc[0]
+    calls = []
+    low = headroom.lowest_supply(df, req.roles[0], req, on_step=lambda: calls.append(1)).iloc[0]
+    assert len(calls) == 1 + (4 if trial_rows > 1 else 20)  # log2(8.4 V / 10 µV) = 19.7
     hot = 1.0 + 57.75 / 32.5 + 0.1
     cold = 1.0 + 40.6875 / 40.625 + 0.1
     assert 0 <= low["lowest_supply_hot_V"] - hot <= BISECT
@@ -223,7 +229,11 @@ def test_solved_for_the_whole_catalogue_at_once(tmp_path):
     role = req.role("cell-switch")
     calls = []
     low = headroom.lowest_supply(df, role, req, on_step=lambda: calls.append(1))
-    assert len(calls) == headroom.evaluations(role, req) == 1 + 20
+    # 10,000 rows (both corners): 7 sections a pass (6 trials per part within
+    # 65,536 rows); log(8.4 V / 10 µV) / log 7 = 13.64 / 1.946 = 7.01, so 8
+    # passes after the one at the top
+    assert headroom.sections(2 * n) == 7
+    assert len(calls) == headroom.evaluations(role, req, n_parts=n) == 1 + 8
     # spot-check a sample against the engine
     found = low[low["lowest_supply_status"] == "found"]
     assert len(found) > 100

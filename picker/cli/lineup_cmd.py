@@ -53,7 +53,7 @@ def lineup(
 
     req, chosen = _role_and_requirements(requirements, role)
     catalog = open_catalog(catalog_path, strict)
-    steps = headroom.evaluations(chosen, req) + 1 if chosen is not None else 1
+    steps = headroom.evaluations(chosen, req, n_parts=len(parts)) + 1 if chosen is not None else 1
     with progress("comparing the parts", total=steps,
                   show=is_large(rows=len(catalog.df))) as advance:
         result = build_lineup(catalog.df, parts, req, chosen, on_step=advance)
@@ -118,7 +118,7 @@ def curve(
             say(plot.PLOT_INSTALL_HINT)
             raise typer.Exit(2) from None
     catalog = open_catalog(catalog_path, strict)
-    steps = 1 + headroom.evaluations(chosen, req) + 2
+    steps = 1 + headroom.evaluations(chosen, req, n_parts=len(parts) if parts else top) + 2
     with progress("computing the curves", total=steps,
                   show=is_large(rows=len(catalog.df))) as advance:
         if parts:
