@@ -307,18 +307,30 @@ def in_blocks(parts: PartData, columns) -> dict:
     if n <= 2 * BLOCK_ROWS:
         return columns(parts)
     parts.prefetch()  # the blocks slice the arrays: no pandas per block
-    blocks = [parts.take(slice(lo, min(n, lo + BLOCK_ROWS))) for lo in range(0, n, BLOCK_ROWS)]
-    pieces = parallel.map_blocks(columns, blocks)
+    # One part first, for the columns' names and types: each thread then
+    # writes its block straight into the joined columns.
+    sample = columns(parts.take(slice(0, 1)))
+    joined = {name: np.empty(n, dtype=_codes(value).dtype)
+              for name, value in sample.items() if np.ndim(value)}
+
+    def fill(lo: int) -> None:
+        block = columns(parts.take(slice(lo, min(n, lo + BLOCK_ROWS))))
+        for name, target in joined.items():
+            target[lo:lo + BLOCK_ROWS] = _codes(block[name])
+
+    parallel.map_blocks(fill, list(range(0, n, BLOCK_ROWS)))
     out = {}
-    for name, first in pieces[0].items():
-        if isinstance(first, pd.Categorical):
-            out[name] = pd.Categorical.from_codes(
-                np.concatenate([p[name].codes for p in pieces]), dtype=first.dtype)
-        elif np.ndim(first) == 0:  # a figure the same for every part (vgs_V, quantity, ...)
-            out[name] = first
-        else:
-            out[name] = np.concatenate([p[name] for p in pieces])
+    for name, value in sample.items():
+        if isinstance(value, pd.Categorical):
+            out[name] = pd.Categorical.from_codes(joined[name], dtype=value.dtype)
+        else:  # a scalar is a figure the same for every part (vgs_V, quantity, ...)
+            out[name] = joined.get(name, value)
     return out
+
+
+def _codes(value):
+    """A column's values as a numpy array (a categorical's codes)."""
+    return value.codes if isinstance(value, pd.Categorical) else np.asarray(value)
 
 
 def catalogue_columns(parts: PartData, role: Role) -> dict:
