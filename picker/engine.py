@@ -316,7 +316,10 @@ def in_blocks(parts: PartData, columns) -> dict:
     def fill(lo: int) -> None:
         block = columns(parts.take(slice(lo, min(n, lo + BLOCK_ROWS))))
         for name, target in joined.items():
-            target[lo:lo + BLOCK_ROWS] = _codes(block[name])
+            value = _codes(block[name])
+            if value.dtype != target.dtype:  # e.g. text of another width: never cut it short
+                raise TypeError(f"column {name}: {value.dtype} in a block, {target.dtype} in the first")
+            target[lo:lo + BLOCK_ROWS] = value
 
     parallel.map_blocks(fill, list(range(0, n, BLOCK_ROWS)))
     out = {}
