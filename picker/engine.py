@@ -217,6 +217,24 @@ class RoleResult:
     def rejected(self) -> pd.DataFrame:
         return self._ranked(~self.frame["feasible"].to_numpy()[self.order])
 
+    @property
+    def n_rejected(self) -> int:
+        return int(np.count_nonzero(~self.frame["feasible"].to_numpy()))
+
+    def cheapest_rejected(self, limit: int | None = None) -> pd.DataFrame:
+        """The rejected candidates cheapest first (no price last), equal costs
+        by part number, then rank; only the first `limit` if given. On a large
+        catalogue only the parts that can be among the first `limit` are
+        sorted: those costing no more than the limit-th cheapest."""
+        rows = self.order[~self.frame["feasible"].to_numpy()[self.order]]  # rank order
+        cost = np.nan_to_num(self.frame["cost"].to_numpy(dtype=float)[rows], nan=np.inf)
+        if limit is not None and limit < rows.size:
+            keep = cost <= np.partition(cost, limit - 1)[limit - 1]
+            rows, cost = rows[keep], cost[keep]
+        part = self.frame["part"].to_numpy(dtype=object)[rows]
+        rows = rows[np.lexsort((part, cost))]  # stable: equal keys stay in rank order
+        return self.frame.take(rows if limit is None else rows[:limit])
+
 
 @dataclass
 class DesignResult:

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
 import pandas as pd
 
 from picker.engine import FAIL, PASS, DesignResult, RoleResult, notes
@@ -161,11 +160,11 @@ def _switch_columns() -> list[Column]:
 
 def _lowest_supply(table: pd.DataFrame, r: RoleResult, req) -> pd.DataFrame | None:
     """headroom.lowest_supply for the rows shown (None without the catalogue rows)."""
-    if r.parts is None or table.empty:
+    if r.catalog_df is None or table.empty:
         return None
     from picker import headroom
 
-    return headroom.lowest_supply(r.parts.loc[table.index], r.role, req)
+    return headroom.lowest_supply(r.catalog_df.loc[table.index], r.role, req)
 
 
 def _lowest_cell(low: pd.DataFrame | None, index) -> str | None:
@@ -210,10 +209,7 @@ def choose_report(design: DesignResult, *, top: int = 5, show_all: bool = False)
         elif len(r.feasible) > len(feasible):
             caption.append(f"{len(r.feasible) - len(feasible)} more feasible parts "
                            "(--top N or --all to see them)")
-        rejected = r.rejected.assign(_cost=r.rejected["cost"].fillna(np.inf))
-        rejected = rejected.sort_values(["_cost", "part"], kind="stable")
-        if not show_all:
-            rejected = rejected.head(top)
+        rejected = r.cheapest_rejected(None if show_all else top)
         low = _lowest_supply(pd.concat([feasible, rejected]), r, req)  # one search for both
         sections.append(Section(_role_heading(r, req), columns, _display_rows(feasible, r, low),
                                 caption=caption))
@@ -222,7 +218,7 @@ def choose_report(design: DesignResult, *, top: int = 5, show_all: bool = False)
                 for index, row in rejected.iterrows()]
         if rows:
             sections.append(Section(
-                f"  rejected {r.role.name}, cheapest first ({len(r.rejected)} in all)",
+                f"  rejected {r.role.name}, cheapest first ({r.n_rejected} in all)",
                 [Column("part"), Column("package"), Column("cost", "cost/board", numeric=True),
                  Column("why")], rows))
     return Report(sections, notes=summary_lines(design) + [""] + CAUTIONS)

@@ -824,3 +824,27 @@ def test_thread_count_comes_from_the_environment(monkeypatch):
     for text in ("0", "-2", "many", ""):
         monkeypatch.setenv("PICKER_THREADS", text)
         assert parallel.workers() >= 1
+
+
+@pytest.mark.parametrize("same_price", [False, True])
+def test_cheapest_rejected_is_a_sort_by_cost_then_part(same_price):
+    """`cheapest_rejected(k)` (what the choose table shows) must be the first
+    k rows of the full sort of the rejected parts by cost (no price last),
+    then part number, then rank, done here with pandas; also when every part
+    costs the same, so the k-th cost ties with many."""
+    from conftest import DEMO
+
+    demo = load_catalog(DEMO, source="test").df
+    if same_price:
+        for name in [c for c in demo.columns if c.startswith("price@")]:
+            demo[name] = np.where(demo[name].notna(), 0.05, np.nan)
+    req = requirements(pass_role(load="1.2 A", max_drop="20 mV"),
+                       switch_role(ic="50 mA", rb="100 kohm"))
+    for i in range(2):
+        r = run_role(demo, req, i)
+        full = (r.rejected.assign(_cost=r.rejected["cost"].fillna(np.inf))
+                .sort_values(["_cost", "part"], kind="stable").drop(columns="_cost"))
+        assert r.n_rejected == len(full) > 5
+        for k in (1, 3, 5, None):
+            expected = full if k is None else full.head(k)
+            pd.testing.assert_frame_equal(r.cheapest_rejected(k), expected)
