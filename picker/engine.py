@@ -60,29 +60,35 @@ class PartData:
     """Catalogue rows as the models read them: each column turned into a float
     array once and kept, so repeated evaluations of the same parts (the
     lowest-supply search runs the engine some 40 times) pay for pandas once.
-    `take(rows)` gives the same for a subset without going back to pandas."""
 
-    def __init__(self, df: pd.DataFrame, memo: dict | None = None) -> None:
+    `rows` (an index array or a slice of positions in `df`; None: every row)
+    makes it the data of those parts only, read column by column as the
+    models ask for it: the catalogue is never copied whole. `take(rows)` gives
+    the same for a subset without going back to pandas."""
+
+    def __init__(self, df: pd.DataFrame, memo: dict | None = None, rows=None) -> None:
         self.df = df
-        self.index = df.index
+        self.rows = rows
+        self.index = df.index if rows is None else df.index[rows]
         self._memo = memo if memo is not None else {}
 
     def __len__(self) -> int:
-        return len(self.df)
+        return len(self.index)
 
     def __contains__(self, name: str) -> bool:
         return name in self.df
-
-    def __getitem__(self, name: str):
-        return self._get(("text", name), lambda: self.df[name])
 
     def _get(self, key, make):
         if key not in self._memo:
             self._memo[key] = make()
         return self._memo[key]
 
+    def _pick(self, column):
+        """A whole-catalogue column cut down to these parts."""
+        return column if self.rows is None else column[self.rows]
+
     def values(self, name: str) -> np.ndarray:
-        return self._get(("values", name), lambda: _catalog_values(self.df, name))
+        return self._get(("values", name), lambda: self._pick(_catalog_values(self.df, name)))
 
     def points(self, prefix: str) -> tuple[np.ndarray, np.ndarray]:
         """A point family as `picker.catalog.points` gives it, but never zero
@@ -92,7 +98,7 @@ class PartData:
         def make():
             conditions, matrix = _catalog_points(self.df, prefix, self.values)
             if conditions.size == 0:
-                return np.array([np.nan]), np.full((len(self.df), 1), np.nan)
+                return np.array([np.nan]), np.full((len(self), 1), np.nan)
             return conditions, matrix
         return self._get(("points", prefix), make)
 
@@ -103,11 +109,11 @@ class PartData:
             # of a million strings); only the flags are computed.
             df, out = self.df, {}
             for name in ("part", "maker", "package", "status"):
-                out[name] = (df[name].array if name in df
-                             else np.full(len(df), "", dtype=object))
-            out["preferred"] = df["preferred"].to_numpy(dtype=bool)
-            out["eol"] = (df["status"] == "eol").to_numpy(dtype=bool)
-            out["nrnd"] = (df["status"] == "nrnd").to_numpy(dtype=bool)
+                out[name] = self._pick(df[name].array if name in df
+                                       else np.full(len(df), "", dtype=object))
+            out["preferred"] = self._pick(df["preferred"].to_numpy(dtype=bool))
+            out["eol"] = self._pick((df["status"] == "eol").to_numpy(dtype=bool))
+            out["nrnd"] = self._pick((df["status"] == "nrnd").to_numpy(dtype=bool))
             return out
         return self._get(("identity",), make)
 
@@ -126,8 +132,9 @@ class PartData:
             return mosfet.fit_on_resistance(drives_V, rds_mohm / 1000.0, self.values("vgs_th_max_V"))
         return self._get(("fit",), make)
 
-    def take(self, rows: np.ndarray) -> "PartData":
-        """The same parts data for the rows at positions `rows`."""
+    def take(self, rows) -> "PartData":
+        """The same parts data for the parts at positions `rows` (an index
+        array or a slice) of these."""
         memo = {}
         for key, value in self._memo.items():
             if key[0] == "values":
@@ -139,7 +146,12 @@ class PartData:
             elif key[0] == "fit":
                 memo[key] = mosfet.OnResistanceFit(*(np.asarray(f)[rows] for f in (
                     value.r_fix_ohm, value.k_ohm_V, value.lowest_drive_V, value.n_points)))
-        return PartData(self.df.iloc[rows], memo)
+        if self.rows is None:
+            within = rows
+        else:
+            mine = self.rows if not isinstance(self.rows, slice) else np.arange(len(self.df))[self.rows]
+            within = mine[rows]
+        return PartData(self.df, memo, within)
 
 
 def _data(parts) -> PartData:
@@ -257,11 +269,7 @@ def evaluate(catalog_df: pd.DataFrame, req: Requirements) -> DesignResult:
 def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> RoleResult:
     """All catalogue parts of the role's kind: figures, checks, notes, rank."""
     mask = (catalog_df["kind"] == role.kind).to_numpy(dtype=bool)
-    if mask.all():
-        parts = PartData(catalog_df)
-    else:
-        model_columns = [c for c in catalog_df.columns if c in MODEL_COLUMNS or "@" in c]
-        parts = PartData(catalog_df.loc[mask, model_columns])
+    parts = PartData(catalog_df, rows=None if mask.all() else np.flatnonzero(mask))
     checks, figures = role_checks(role)
     # Columns are gathered in a dict and made a DataFrame once: inserting
     # some 45 columns one by one costs more than all the models together.
