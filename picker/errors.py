@@ -4,8 +4,6 @@ Each error stores where it happened (file, line, column) and builds its one-line
 message from those fields, so the CLI can print it as is and exit 2.
 """
 
-from __future__ import annotations
-
 import re
 
 # Line breaks and other control characters a message may quote from the user's

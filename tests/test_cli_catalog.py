@@ -123,6 +123,25 @@ def test_every_command_has_help_text():
         assert (command.help or "").strip(), f"picker {' '.join(path)} has no help text"
 
 
+def test_quick_top_level_help_is_the_full_help():
+    """`picker --help` is built from a copy of the commands without their
+    options (`cli._listing`: typer is quicker to build that); it must print
+    exactly what the full command tree prints, and the console entry point
+    must take that path for both spellings."""
+    from typer.testing import CliRunner
+
+    from picker.cli import _listing, app
+
+    full = CliRunner().invoke(app, ["--help"], env={"COLUMNS": "200"})
+    quick = CliRunner().invoke(_listing(app), ["--help"], env={"COLUMNS": "200"})
+    assert full.exit_code == quick.exit_code == 0
+    assert quick.output == full.output
+    long, short = run_cli("--help"), run_cli("-h")
+    assert long.returncode == short.returncode == 0 and long.stdout == short.stdout
+    for name in ("choose", "lineup", "curve", "review", "catalog", "--no-cache"):
+        assert name in long.stdout
+
+
 def test_console_script_entry_point_is_declared():
     text = (ROOT / "pyproject.toml").read_text()
     assert 'picker = "picker.cli:main"' in text

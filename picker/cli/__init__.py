@@ -54,9 +54,39 @@ from picker.cli import lineup_cmd  # noqa: E402,F401
 from picker.cli import review_cmd  # noqa: E402,F401
 
 
+def _listing(group: typer.Typer) -> typer.Typer:
+    """A copy of `group` whose commands take no options: all that `--help`
+    at the top lists (name and summary), and much quicker for typer to build
+    than every option of every command. The same help comes out (a test
+    compares the two)."""
+    import copy
+    import inspect
+
+    light = copy.copy(group)
+    light.registered_commands = []
+    for info in group.registered_commands:
+        stub = copy.copy(info)
+        stub.name = info.name or typer.main.get_command_name(info.callback.__name__)
+        stub.help = inspect.getdoc(info.callback) if info.help is None else info.help
+        stub.callback = _no_options
+        light.registered_commands.append(stub)
+    light.registered_groups = []
+    for info in group.registered_groups:
+        sub = copy.copy(info)
+        sub.typer_instance = _listing(info.typer_instance)
+        light.registered_groups.append(sub)
+    return light
+
+
+def _no_options() -> None:
+    """Stands in for a command in `_listing`; never run."""
+
+
 def main() -> None:
     """Console entry point: our errors exit 2 in one line; a bug exits 3."""
     try:
+        if sys.argv[1:] in (["--help"], ["-h"]):
+            _listing(app)()  # prints the help and exits
         app()
     except PickerError as exc:  # raised outside a command (e.g. while parsing)
         typer.echo(f"Error: {exc}", err=True)

@@ -1,6 +1,5 @@
 """`picker choose`: the main job."""
 
-import dataclasses
 from typing import Annotated, Optional
 
 import typer
@@ -76,6 +75,8 @@ def choose(
         for note in assumed(options):
             say(f"assumed: {note} (set it with --{note.split()[0]})")
     if role is not None:
+        import dataclasses
+
         req = dataclasses.replace(req, roles=(req.role(role),))
     catalog = open_catalog(catalog_path, strict)
     design = evaluate(catalog.df, req)
