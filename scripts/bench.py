@@ -47,6 +47,19 @@ def wall(cmd: list[str], runs: int, env: dict | None = None) -> float:
     return statistics.median(run_once(cmd, env) for _ in range(runs))
 
 
+def paired(cmd: list[str], floor: list[str], runs: int) -> tuple[float, float]:
+    """Median wall times of a command and of its floor, run in turn (command,
+    floor, command, ...) after a warm-up of each, so that a machine that
+    speeds up or slows down during the measurement moves both alike."""
+    run_once(cmd)
+    run_once(floor)
+    times: tuple[list[float], list[float]] = ([], [])
+    for _ in range(runs):
+        times[0].append(run_once(cmd))
+        times[1].append(run_once(floor))
+    return statistics.median(times[0]), statistics.median(times[1])
+
+
 def timed(fn, runs: int) -> float:
     """Median wall time of `fn()` over `runs` calls, after one warm-up call."""
     fn()
@@ -76,12 +89,13 @@ def main(argv: list[str]) -> None:
     example = str(ROOT / "catalog" / "examples" / "kettlewick-power.toml")
 
     # 1. start-up: help, and the main job on the demo catalogue
-    help_s = wall(picker + ["--help"], args.runs)
-    floor_s = wall([py, "-c", "import typer, rich"], args.runs)
+    # start-up figures are short and the machine's speed drifts: more runs, in turn with the floor
+    starts = max(args.runs, 11)
+    help_s, floor_s = paired(picker + ["--help"], [py, "-c", "import typer, rich"], starts)
     rows.append(("picker --help", f"{help_s * 1000:.0f} ms", f"{floor_s * 1000:.0f} ms (import typer, rich)",
                  f"{help_s / floor_s:.2f}x", "<= 1.3x"))
-    choose_s = wall(picker + ["choose", example], args.runs)
-    stack_s = wall([py, "-c", "import pandas, numpy, typer, rich, rapidfuzz"], args.runs)
+    choose_s, stack_s = paired(picker + ["choose", example],
+                               [py, "-c", "import pandas, numpy, typer, rich, rapidfuzz"], starts)
     rows.append(("picker choose (demo)", f"{choose_s * 1000:.0f} ms",
                  f"{stack_s * 1000:.0f} ms (import pandas, numpy, typer, rich, rapidfuzz)",
                  f"{choose_s / stack_s:.2f}x", "<= 1.3x"))
@@ -141,8 +155,9 @@ def main(argv: list[str]) -> None:
     print(line(h.ljust(w) for h, w in zip(("measure", "figure", "floor", "ratio", "target"), width)))
     for r in rows:
         print(line(c.ljust(w) for c, w in zip(r, width)))
-    print(f"\nmedian of {args.runs} runs; python {sys.version.split()[0]}, {os.cpu_count()} cores; "
-          f"work folder {work}")
+    print(f"\nmedian of {args.runs} runs ({starts} for the start-up figures, each in turn with its "
+          f"floor); python {sys.version.split()[0]}, {os.cpu_count()} cores, "
+          f"{os.environ.get('PICKER_THREADS') or 'all'} engine threads; work folder {work}")
 
 
 if __name__ == "__main__":
