@@ -90,7 +90,7 @@ def main(argv: list[str]) -> None:
 
     # 1. start-up: help, and the main job on the demo catalogue
     # start-up figures are short and the machine's speed drifts: more runs, in turn with the floor
-    starts = max(args.runs, 11)
+    starts = max(args.runs, 21)
     help_s, floor_s = paired(picker + ["--help"], [py, "-c", "import typer, rich"], starts)
     rows.append(("picker --help", f"{help_s * 1000:.0f} ms", f"{floor_s * 1000:.0f} ms (import typer, rich)",
                  f"{help_s / floor_s:.2f}x", "<= 1.3x"))
