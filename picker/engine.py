@@ -604,7 +604,8 @@ def design_totals(req: Requirements, roles: list[RoleResult]) -> DesignResult:
 
 # -- presenting one candidate --------------------------------------------------
 
-def notes(row: pd.Series) -> list[str]:
+def notes(row) -> list[str]:
+    """The notes of a candidate (a row as a Series or a dict)."""
     return [text for flag, text in NOTE_FLAGS.items() if bool(row.get(flag, False))]
 
 

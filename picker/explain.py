@@ -167,29 +167,30 @@ def _lowest_supply(table: pd.DataFrame, r: RoleResult, req) -> pd.DataFrame | No
     return headroom.lowest_supply(r.catalog_df.loc[table.index], r.role, req)
 
 
-def _lowest_cell(low: pd.DataFrame | None, index) -> str | None:
-    """'2.911 V hot': the lowest working supply and the corner that sets it."""
+def _lowest_cell(low: dict | None) -> str | None:
+    """'2.911 V hot': the lowest working supply and the corner that sets it
+    (`low`: one row of `headroom.lowest_supply`, as a dict)."""
     if low is None:
         return None
     from picker import headroom
 
-    row = low.loc[index]
-    text = headroom.short(row)
-    found = row["lowest_supply_status"] == "found"
-    return f"{text} {row['lowest_supply_corner']}" if found else text
+    text = headroom.short(low)
+    found = low["lowest_supply_status"] == "found"
+    return f"{text} {low['lowest_supply_corner']}" if found else text
 
 
 def _display_rows(table: pd.DataFrame, r: RoleResult,
                   low: pd.DataFrame | None = None) -> list[dict]:
     role = r.role
+    lows = {} if low is None else dict(zip(low.index, low.to_dict("records")))
     rows = []
-    for index, row in table.iterrows():
-        d = row.to_dict()
-        d["notes"] = notes(row)
-        d["lowest_supply"] = _lowest_cell(low, index)
+    # Records, not iterrows: a dict per row costs far less than a Series.
+    for index, d in zip(table.index, table.to_dict("records")):
+        d["notes"] = notes(d)
+        d["lowest_supply"] = _lowest_cell(lows.get(index))
         if role.is_pass_switch:
-            d["drop_margin_V"] = role.max_drop_V - row["drop_V"]
-            d["tj_margin_C"] = row["tj_limit_C"] - row["tj_C"]
+            d["drop_margin_V"] = role.max_drop_V - d["drop_V"]
+            d["tj_margin_C"] = d["tj_limit_C"] - d["tj_C"]
         rows.append(d)
     return rows
 
