@@ -315,3 +315,28 @@ def test_subprocess_run_prints_json_and_no_traceback(tmp_path):
     assert "Traceback" not in proc.stdout + proc.stderr
     assert proc.stderr.strip().splitlines() == [proc.stderr.strip()]
     assert str(bad) in proc.stderr and "load" in proc.stderr
+
+
+def test_the_process_leaves_with_its_output_whole_and_its_status():
+    """The console entry point skips Python's teardown (`cli._leave`): the
+    answer must still reach a file or pipe whole, with the command's status;
+    a reader that stops early gets no traceback."""
+    import os
+    import subprocess
+    import sys
+
+    from conftest import ROOT
+
+    example = str(EXAMPLES / "kettlewick-power.toml")
+    whole = run_cli("choose", example, "--format", "json")
+    assert whole.returncode == 0
+    assert json.loads(whole.stdout) == json.loads(invoke("choose", example, "--format", "json").stdout)
+    assert run_cli("choose", str(EXAMPLES / "no-such-file.toml")).returncode == 2
+    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    reader = subprocess.Popen([sys.executable, "-m", "picker", "choose", example, "--format", "json"],
+                              stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
+    assert reader.stdout.read(64)  # the first bytes, then stop reading
+    reader.stdout.close()
+    stderr = reader.stderr.read().decode()
+    assert reader.wait(timeout=60) in (0, 1)
+    assert "Traceback" not in stderr and "Exception ignored" not in stderr
