@@ -32,12 +32,10 @@ GATE_HEADROOM_V = 0.1  # models.md §6: vgs must exceed Vt(Ta) by this much
 HOURS_PER_YEAR = 8766.0  # 365.25 days
 BLOCK_ROWS = 65_536  # parts evaluated together (see `in_blocks`)
 
-# The catalogue columns the models read (besides the '@' point families).
-MODEL_COLUMNS = {"part", "maker", "package", "preferred", "status", "vds_max_V", "vgs_max_V",
-                 "id_max_A", "vgs_th_max_V", "vgs_th_tc_mV/C", "rds_tc_pct/C", "idss_uA",
-                 "idss_hot_uA", "idss_hot_C", "vceo_max_V", "ic_max_A", "vbe_on_V", "icbo_nA",
-                 "icbo_hot_nA", "icbo_hot_C", "rth_ja_C/W", "tj_max_C"}
-TEXT_COLUMNS = {"part", "maker", "package", "preferred", "status"}
+# The numeric catalogue columns the models read (besides the '@' point families).
+MODEL_NUMBERS = {"vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "vgs_th_tc_mV/C",
+                 "rds_tc_pct/C", "idss_uA", "idss_hot_uA", "idss_hot_C", "vceo_max_V", "ic_max_A",
+                 "vbe_on_V", "icbo_nA", "icbo_hot_nA", "icbo_hot_C", "rth_ja_C/W", "tj_max_C"}
 PASS_SWITCH_CHECKS = ("gate_drive", "drop", "tj", "off_current", "vds_rating", "vgs_rating",
                       "id_rating")
 SWITCH_CHECKS = ("saturation", "vce_sat", "off_current", "vceo_rating", "ic_rating")
@@ -122,7 +120,7 @@ class PartData:
         hands out slices of them)."""
         self.identity()
         for name in self.df.columns:
-            if "@" in name or name in MODEL_COLUMNS and name not in TEXT_COLUMNS:
+            if "@" in name or name in MODEL_NUMBERS:
                 self.values(name)
 
     def fit(self) -> mosfet.OnResistanceFit:
@@ -387,7 +385,7 @@ def pass_switch_columns(parts, role: Role, req: Requirements, *,
     the lowest-supply search needs. `catalogue=False` leaves out the columns
     `catalogue_columns` gives."""
     parts = _data(parts)
-    out = dict(parts.identity()) if catalogue else {}
+    out = catalogue_columns(parts, role) if catalogue else {}
     load_A = role.load_A
     vt25_V = values(parts, "vgs_th_max_V")
     fit = parts.fit()
@@ -461,9 +459,6 @@ def pass_switch_columns(parts, role: Role, req: Requirements, *,
     # The gate swings the whole rail when it turns on (models.md §6); a gate
     # drive above the rail swings that much instead.
     gate_swing_V = max(req.supply.max_V, role.gate_drive_V or 0.0)
-    if catalogue:
-        for name in PASS_SWITCH_RATINGS:
-            out[name] = values(parts, name)
     out["gate_swing_V"] = gate_swing_V
     out["settled"] = settled
     out["check_vds_rating"] = _limit_check(values(parts, "vds_max_V") * derate_v,
@@ -497,7 +492,7 @@ def saturated_switch_columns(parts, role: Role, req: Requirements, *,
     `on_state_only` stops after the saturation check (all the lowest-supply
     search needs); `catalogue` as `pass_switch_columns`."""
     parts = _data(parts)
-    out = dict(parts.identity()) if catalogue else {}
+    out = catalogue_columns(parts, role) if catalogue else {}
     ic_A = role.collector_current_A
     cold_C = req.ambient.min_C
     drive_V = req.supply.min_V if role.base_drive_V is None else role.base_drive_V
@@ -535,9 +530,6 @@ def saturated_switch_columns(parts, role: Role, req: Requirements, *,
     if role.max_off_current_A is not None:
         out["check_off_current"] = _limit_check(out["off_current_A"],
                                                 role.max_off_current_A)
-    if catalogue:
-        for name in SWITCH_RATINGS:
-            out[name] = values(parts, name)
     out["check_vceo_rating"] = _limit_check(values(parts, "vceo_max_V") * req.margins.derate_v,
                                             req.supply.max_V, at_least=True)
     out["check_ic_rating"] = _limit_check(values(parts, "ic_max_A") * req.margins.derate_i,
