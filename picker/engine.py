@@ -191,20 +191,12 @@ class RoleResult:
     order: np.ndarray
     checks: tuple[str, ...]
     figures: tuple[str, ...]
-    catalog_df: pd.DataFrame | None = None
-    mask: np.ndarray | None = None  # the catalogue rows of the role's kind
+    catalog_df: pd.DataFrame | None = None  # the catalogue evaluated (its rows: frame's index)
 
     @cached_property
     def table(self) -> pd.DataFrame:
         """Every candidate, in rank order (models.md §8)."""
         return self.frame.take(self.order)
-
-    @cached_property
-    def parts(self) -> pd.DataFrame | None:
-        """The catalogue rows evaluated (same index as `table`), in catalogue order."""
-        if self.catalog_df is None:
-            return None
-        return self.catalog_df[self.mask]
 
     def _ranked(self, rows: np.ndarray) -> pd.DataFrame:
         """The rows (positions in `frame`) selected by a mask over `order`."""
@@ -278,7 +270,7 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     # columns costs more than evaluating them.
     frame = pd.DataFrame(out, index=parts.index, copy=len(parts) < 100_000)
     order = rank(frame, role)
-    return RoleResult(role, frame, order, checks, figures, catalog_df, mask)
+    return RoleResult(role, frame, order, checks, figures, catalog_df)
 
 
 def role_checks(role: Role) -> tuple[tuple[str, ...], tuple[str, ...]]:
