@@ -86,4 +86,4 @@ class WriteRefused(PickerError, OSError):
 class TooLarge(PickerError, ValueError):
     """An input beyond the bounds picker accepts: tabular.MAX_BYTES and MAX_ROWS
     (catalogues, BOMs, raw tables), bom.MAX_REFS, importer.MAX_MAPPING_BYTES;
-    requirement files have theirs in picker.requirements."""
+    requirement files have theirs in picker.design.requirements."""

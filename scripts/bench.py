@@ -101,8 +101,8 @@ def main(argv: list[str]) -> None:
                  f"{choose_s / stack_s:.2f}x", "<= 1.3x"))
 
     # 2. the engine alone: one pass-switch role over `big` P-channel parts
-    from picker.engine import evaluate_role
-    from picker.requirements import load_requirements
+    from picker.engine.evaluate import evaluate_role
+    from picker.design.requirements import load_requirements
 
     import scalar_reference
 
@@ -126,7 +126,7 @@ def main(argv: list[str]) -> None:
     cat_path = work / f"catalog-{big}.csv"
     if not cat_path.exists():
         synth.write_catalog(big, str(cat_path))
-    load = [py, "-c", f"from picker.catalog import load_catalog; load_catalog({str(cat_path)!r}, source='bench')"]
+    load = [py, "-c", f"from picker.catalog.load import load_catalog; load_catalog({str(cat_path)!r}, source='bench')"]
     cache = work / "cache"
     first = []
     for _ in range(max(1, args.runs // 2)):

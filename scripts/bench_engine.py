@@ -1,7 +1,7 @@
 """Benchmark: `evaluate_role` over a synthetic catalogue of 100,000 MOSFETs.
 
 The catalogue is built directly as a DataFrame in the loader's format (the
-columns and units of `picker.catalog.load_catalog`'s result: one row per part,
+columns and units of `picker.catalog.load.load_catalog`'s result: one row per part,
 values in the unit the column name carries, NaN for blank), seeded, with
 spreads like a real low-voltage MOSFET list and some blank cells. One
 high-side pass-switch role; the median of 5 runs of `evaluate_role` (the
@@ -23,8 +23,8 @@ import pandas as pd
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from picker.engine import evaluate_role  # noqa: E402
-from picker.requirements import parse_requirements  # noqa: E402
+from picker.engine.evaluate import evaluate_role  # noqa: E402
+from picker.design.requirements import parse_requirements  # noqa: E402
 
 TARGET_S = 0.2
 REQUIREMENTS = """

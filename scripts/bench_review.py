@@ -145,10 +145,10 @@ def main() -> None:
     ap.add_argument("--runs", type=int, default=3)
     args = ap.parse_args()
 
-    from picker.bom import read_bom, revised_bom
-    from picker.catalog import load_catalog
+    from picker.review.bom import read_bom, revised_bom
+    from picker.catalog.load import load_catalog
     from picker.cli.review_cmd import review_json
-    from picker.review import Options, review
+    from picker.review.propose import Options, review
 
     rng = np.random.default_rng(args.seed)
     with tempfile.TemporaryDirectory() as folder:

@@ -19,7 +19,7 @@ def _finite(x) -> bool:
 
 
 def fit(points: list[tuple[float, float]], vt: float) -> tuple[float, float]:
-    """(R_fix, K) in ohm, ohm·V from [(drive V, R ohm)], models.md §1."""
+    """(R_fix, K) in ohm, ohm·V from [(drive V, R ohm)], models/README.md §1."""
     if not points or not _finite(vt) or any(v <= vt for v, _ in points):
         return NAN, NAN
     xs = [1.0 / (v - vt) for v, _ in points]
@@ -47,7 +47,7 @@ def resistance(vg, t, r_fix, k, vt25, k_vt=0.003, a=0.005):
 
 
 def junction(ta, current, rth, r_at):
-    """(Tj, converged) by fixed-point iteration, models.md §3."""
+    """(Tj, converged) by fixed-point iteration, models/README.md §3."""
     if not _finite(rth):
         return ta, True
     tj = ta

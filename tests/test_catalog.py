@@ -13,7 +13,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from conftest import DEMO, TINY_CSV, sha256
-from picker.catalog import closest_parts, load_catalog, select
+from picker.catalog.load import closest_parts, load_catalog, select
 from picker.errors import CatalogError, PickerError
 
 HEADER = TINY_CSV.splitlines()[0]
@@ -244,7 +244,7 @@ def test_random_csv_like_text_gives_a_catalogue_or_our_error(tmp_path, rows, del
 def test_vectorised_reader_gives_the_same_as_the_general_one(tmp_path, monkeypatch, text_edit):
     """Large files take a vectorised path (no quotes, no ragged rows); it must
     give exactly what the csv-module path gives, line numbers included."""
-    import picker.tabular as tabular
+    import picker.catalog.tabular as tabular
 
     path = tmp_path / "cat.csv"
     path.write_text(text_edit(DEMO.read_text(encoding="utf-8")), encoding="utf-8", newline="")
@@ -259,7 +259,7 @@ def test_cache_serves_the_same_catalogue_and_never_a_stale_one(tmp_path, monkeyp
     """A second load comes from the columnar cache and equals the parsed one;
     a changed file or a corrupt cache entry is parsed again."""
     pytest.importorskip("pyarrow")
-    from picker import cache
+    from picker.catalog import cache
 
     monkeypatch.setenv("PICKER_CACHE_DIR", str(tmp_path / "cache"))
     monkeypatch.setattr(cache, "MIN_BYTES", 0)
@@ -269,7 +269,7 @@ def test_cache_serves_the_same_catalogue_and_never_a_stale_one(tmp_path, monkeyp
     entries = list((tmp_path / "cache").glob("catalog-*.feather"))
     assert len(entries) == 1
     calls = []
-    monkeypatch.setattr("picker.catalog._convert", lambda table: calls.append(1))
+    monkeypatch.setattr("picker.catalog.load._convert", lambda table: calls.append(1))
     cached = load_catalog(path, source="test")
     assert calls == []  # not parsed again
     pd.testing.assert_frame_equal(cached.df, parsed.df)

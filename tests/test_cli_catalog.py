@@ -8,7 +8,7 @@ import pandas as pd
 import pytest
 
 from conftest import DEMO, ROOT, TINY_CSV, invoke, run_cli, sha256
-from picker.catalog import load_catalog
+from picker.catalog.load import load_catalog
 
 
 def test_demo_catalogue_checks_clean():

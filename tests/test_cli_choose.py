@@ -15,7 +15,7 @@ import math
 import pytest
 
 from conftest import DEMO, EXAMPLES, invoke, run_cli
-from picker.catalog import load_catalog
+from picker.catalog.load import load_catalog
 
 POWER = EXAMPLES / "kettlewick-power.toml"
 WARMER = EXAMPLES / "kettlewick-warmer.toml"
@@ -240,14 +240,14 @@ def test_json_roles_and_candidates(power_json, demo_kinds):
 
 
 def test_json_feasible_ranked_by_cost(power_json):
-    """Within the feasible priced candidates, cost never falls (models.md §8)."""
+    """Within the feasible priced candidates, cost never falls (models/README.md §8)."""
     for role in power_json["roles"]:
         costs = [c["cost"] for c in role["candidates"] if c["feasible"] and c["cost"] is not None]
         assert costs == sorted(costs), role["name"]
 
 
 def test_json_costs_and_totals_add_up(power_json):
-    """cost = unit price × parts per board; the totals as models.md §9:
+    """cost = unit price × parts per board; the totals as models/README.md §9:
     cost per board the sum of the choices' costs; off current the sum of
     each choice's off current × parts per board; drain = off · 8766 h /
     2.6 Ah · 100 (the lantern's cell)."""

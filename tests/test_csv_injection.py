@@ -31,9 +31,10 @@ import io
 import pytest
 
 from conftest import EXAMPLES, TINY_CSV, invoke
-from picker.bom import Change, read_bom, revised_bom
-from picker.catalog import load_catalog
-from picker.render import FORMULA_START, Column, neutralise, restore, write_csv
+from picker.review.bom import Change, read_bom, revised_bom
+from picker.catalog.load import load_catalog
+from picker.cells import FORMULA_START, neutralise, restore
+from picker.present.render import Column, write_csv
 
 STARTS = ["=", "+", "-", "@", "\t", "\r"]
 IDS = ["equals", "plus", "minus", "at", "tab", "carriage-return"]
@@ -268,7 +269,7 @@ def test_add_refuses_a_formula_and_writes_a_minus_inert(tmp_path):
 
 
 def test_saved_mapping_is_toml_and_keeps_formula_like_headers(tmp_path):
-    from picker.importer import load_mapping, mapping_toml, propose_mapping
+    from picker.catalog.importer import load_mapping, mapping_toml, propose_mapping
 
     headers = ["=Part Number", "-Polarity", "@Case", "Part Number"]
     path = tmp_path / "map.toml"

@@ -13,7 +13,7 @@ Sources, named again beside each check:
 - leakage doubles every 10 °C: common practice;
 - Vbe falls about 2 mV/°C: Horowitz & Hill, *The Art of Electronics*; common practice;
 - Vt falls 3 mV/°C and R rises 0.5 %/°C, hFE rises 0.5 %/°C: from memory
-  (models.md §2, §6);
+  (models/README.md §2, §6);
 - derating 0.8 on voltage, 0.5 on current; Tj margin 25 °C: common practice;
 - a lithium-ion cell spans about 3.0 V (cut-off) to 4.2 V (full charge): common practice.
 
@@ -28,9 +28,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from picker.catalog import load_catalog
-from picker.engine import FAIL, OUTCOME, PASS, UNKNOWN, evaluate, evaluate_role
-from picker.requirements import QUICK_SUPPLY_V, from_options, parse_requirements
+from picker.catalog.load import load_catalog
+from picker.engine.evaluate import FAIL, OUTCOME, PASS, UNKNOWN, evaluate, evaluate_role
+from picker.design.requirements import QUICK_SUPPLY_V, from_options, parse_requirements
 
 REL = 1e-4  # hand arithmetic rounded to 5-6 significant figures
 
@@ -118,7 +118,7 @@ def part(base: dict, **changes) -> dict:
 # -- worked examples by hand: the on-resistance fit through the engine ---------------
 
 def test_two_point_fit_at_a_drive_between_the_points(tmp_path):
-    """Two-point fit, coefficients switched off, worked by hand (models.md §1).
+    """Two-point fit, coefficients switched off, worked by hand (models/README.md §1).
 
     Source: R = R_fix + K / (Vg - Vt), the triode channel 1/(k (Vgs - Vt))
     (Sedra & Smith) plus what the gate does not control.
@@ -149,7 +149,7 @@ def test_two_point_fit_at_a_drive_between_the_points(tmp_path):
 
 def test_both_corners_with_the_default_coefficients_hot_worse(tmp_path):
     """The same part at both ambient corners with the default coefficients
-    (models.md §2, from memory: Vt falls 3 mV/°C, R rises 0.5 %/°C), no rth so
+    (models/README.md §2, from memory: Vt falls 3 mV/°C, R rises 0.5 %/°C), no rth so
     Tj = Ta; cell at its minimum 3.0 V, gate driver loses 0.1 V: vgs = 2.9 V.
 
       cold, Ta = -20 °C: Vt = 1.0 + 0.003·45 = 1.135 V; overdrive 1.765 V
@@ -172,7 +172,7 @@ def test_both_corners_with_the_default_coefficients_hot_worse(tmp_path):
 def test_both_corners_cold_worse_when_the_overdrive_is_thin(tmp_path):
     """A one-point part near its threshold: the cold corner is worse.
 
-    One point (models.md §1): R_fix = 0, K = R1 (V1 - Vt) = 0.100 Ω · (4.5 - 2.5) V = 0.2 Ω·V.
+    One point (models/README.md §1): R_fix = 0, K = R1 (V1 - Vt) = 0.100 Ω · (4.5 - 2.5) V = 0.2 Ω·V.
     vgs = 3.0 - 0.1 = 2.9 V; load 0.1 A.
       cold -20 °C: Vt = 2.5 + 0.135 = 2.635 V, overdrive 0.265 V,
         R = 0.2/0.265 · 0.775 = 0.75472 · 0.775 = 0.58491 Ω, drop 58.491 mV
@@ -207,7 +207,7 @@ def _heating_role(extra=""):
 
 
 def test_self_heating_fixed_point_against_the_closed_form(tmp_path):
-    """Self-heating through the engine against the closed form (models.md §3).
+    """Self-heating through the engine against the closed form (models/README.md §3).
 
     Closed form with the threshold held (k_vt = 0), so R(T) = R25 (1 + a (T - 25)):
       Tj = Ta + I² θ R(Tj)                          (JEDEC JESD51: Tj = Ta + P θJA)
@@ -252,12 +252,12 @@ def test_self_heating_fixed_point_against_the_closed_form(tmp_path):
     ("", "", 150, 125.0, PASS),
     # no tj_max_C: the role's 120 alone
     ('max_tj = "120 degC"', "", None, 120.0, PASS),
-    # neither known: unknown (missing data never passes, models.md §3)
+    # neither known: unknown (missing data never passes, models/README.md §3)
     ("", "", None, None, UNKNOWN),
 ])
 def test_tj_limit_is_the_lower_of_role_and_rating_less_margin(tmp_path, role_extra, margins,
                                                              tj_max, limit, outcome):
-    """Tj limit = min(role max_tj, tj_max_C - margin) (models.md §3; the 25 °C
+    """Tj limit = min(role max_tj, tj_max_C - margin) (models/README.md §3; the 25 °C
     margin is common practice). The part settles at 118.333 °C (worked above)."""
     df = write_catalog(tmp_path, [part(_heating_part(), tj_max_C=tj_max)])
     req = requirements(_heating_role(role_extra), margins=margins)
@@ -270,7 +270,7 @@ def test_tj_limit_is_the_lower_of_role_and_rating_less_margin(tmp_path, role_ext
 
 
 def test_thermal_runaway_fails_tj_even_without_a_limit(tmp_path):
-    """Regression: runaway was `unknown` when neither Tj limit was known; models.md
+    """Regression: runaway was `unknown` when neither Tj limit was known; models/README.md
     §3 says no convergence fails the check.
 
     1 A through R25 = 1 Ω (one point, 1000 mΩ at 4.5 V, driven at 4.5 V), θ = 500 °C/W,
@@ -291,7 +291,7 @@ def test_thermal_runaway_fails_tj_even_without_a_limit(tmp_path):
 # -- worked example: leakage ------------------------------------------------------------
 
 def test_leakage_doubling_rule_at_the_hot_ambient(tmp_path):
-    """Off-state current at ambient.max (models.md §4, §5).
+    """Off-state current at ambient.max (models/README.md §4, §5).
 
     Doubling every 10 °C (common practice): 1 µA at 25 °C is
       at 45 °C: 1 · 2^((45-25)/10) = 1 · 2² = 4 µA = 4e-6 A
@@ -332,7 +332,7 @@ def test_off_current_check_against_the_role_limit(tmp_path):
 # -- worked example: price breaks ------------------------------------------------------
 
 def test_price_break_lookup_at_volume_times_parts_per_board(tmp_path):
-    """Unit price at quantity = volume × parts per board (models.md §7, the usual
+    """Unit price at quantity = volume × parts per board (models/README.md §7, the usual
     reading of a break table: the largest break N <= quantity).
 
     Breaks 1: 0.20, 100: 0.10, 1000: 0.05, 10000: 0.03.
@@ -364,7 +364,7 @@ def test_price_break_lookup_at_volume_times_parts_per_board(tmp_path):
 # -- worked example: a whole design ------------------------------------------------------
 
 def test_design_totals_by_hand(tmp_path):
-    """Two roles, their choices, the totals (models.md §9).
+    """Two roles, their choices, the totals (models/README.md §9).
 
     pass (Q1, one part): TPX-1, 500 bought -> break 1 (the 1000 break not reached):
       0.10 per board; off current 1 µA · 2² = 4 µA at 45 °C.
@@ -407,7 +407,7 @@ def test_design_totals_leave_out_a_role_without_a_choice(tmp_path):
 # -- the bipolar switch through the engine ----------------------------------------------
 
 def test_saturated_switch_worked_example(tmp_path):
-    """npn-switch, Ic = 2 mA, base 1.8 V through Rb (models.md §6).
+    """npn-switch, Ic = 2 mA, base 1.8 V through Rb (models/README.md §6).
 
     Vbe at the cold corner: 0.65 - 0.002·(-20 - 25) = 0.65 + 0.09 = 0.74 V
       (-2 mV/°C, Horowitz & Hill).
@@ -444,7 +444,7 @@ def test_saturated_switch_worked_example(tmp_path):
 
 def test_saturation_fails_where_the_gain_is_short(tmp_path):
     """Ic = 20 mA through the same part from 1.8 V via 10 kΩ: hFE at 20 mA is
-    above the highest point, so 200 (models.md §6), cold 155; Ib·hFE = 106 µA · 155
+    above the highest point, so 200 (models/README.md §6), cold 155; Ib·hFE = 106 µA · 155
     = 16.43 mA < 2 · 20 mA: saturation fails (overdrive 0.82)."""
     df = write_catalog(tmp_path, [GOOD_NPN])
     req = requirements(switch_role(ic="20 mA", rb="10 kohm", extra='base_drive = "1.8 V"'))
@@ -470,7 +470,7 @@ def test_pnp_switch_reads_magnitudes(tmp_path):
 # -- units, corners, derating -------------------------------------------------------------
 
 def test_on_state_at_the_supply_minimum(tmp_path):
-    """gate_drive = "supply" means the cell at its minimum (models.md §5, §6):
+    """gate_drive = "supply" means the cell at its minimum (models/README.md §5, §6):
     vgs = 3.0 - 0.1 = 2.9 V; with the cell minimum at 3.3 V, 3.2 V. The rating
     checks use the maximum, not the minimum."""
     df = write_catalog(tmp_path, [GOOD_PMOS])
@@ -563,7 +563,7 @@ def test_threshold_near_the_cell_minimum_fails_gate_drive_in_the_cold(tmp_path):
       at -20 °C: Vt = 2.75 + 0.003·45 = 2.885 V; needs 2.985 V > 2.9: fail
       with the cold ambient at 25 °C: needs 2.75 + 0.1 = 2.85 <= 2.9: pass
     So it is the cold corner that fails it. Where the gate fails, the on-state
-    figures are null (models.md §6) and drop and tj are unknown.
+    figures are null (models/README.md §6) and drop and tj are unknown.
     """
     near = part(GOOD_PMOS, vgs_th_max_V=2.75, **{"rds_on_mohm@4.5V": 40, "rds_on_mohm@2.5V": None})
     df = write_catalog(tmp_path, [near])
@@ -627,7 +627,7 @@ PASS_UNKNOWNS = [
 @pytest.mark.parametrize("name, blanks, how", PASS_UNKNOWNS,
                          ids=[f"{n}-{'-'.join(b)}" for n, b, _ in PASS_UNKNOWNS])
 def test_pass_switch_check_unknown_without_its_data(tmp_path, name, blanks, how):
-    """Missing data never passes (models.md §8): with the datum blank the check
+    """Missing data never passes (models/README.md §8): with the datum blank the check
     is `unknown` and the part is not feasible; the same part with the datum
     passes every check (so the blank is what changed the verdict)."""
     extra = 'max_off_current = "10 uA"\n' + ("" if how == "no-role-limit" else 'max_tj = "100 degC"')
@@ -673,11 +673,11 @@ def test_vce_sat_unknown_when_not_guaranteed(tmp_path):
     assert not row_of(res, "TBX-1")["feasible"]
 
 
-# -- ranking, models.md §8 ---------------------------------------------------------------
+# -- ranking, models/README.md §8 ---------------------------------------------------------------
 
 def test_ranking_cost_then_preferred_then_drop(tmp_path):
     """Feasible by cost, then preferred first, then drop; then feasible parts
-    with no price; then the rest, fewest failed checks first (models.md §8).
+    with no price; then the rest, fewest failed checks first (models/README.md §8).
 
       D  0.04, not preferred, 50 mΩ  -> first: cheaper beats preferred and drop
       B  0.05, preferred,     45 mΩ  -> preferred wins the tie at 0.05
@@ -708,7 +708,7 @@ def test_ranking_cost_then_preferred_then_drop(tmp_path):
 
 
 def test_switch_ties_broken_by_vce_sat(tmp_path):
-    """For switches the third key is Vce(sat) (models.md §8): same price, neither
+    """For switches the third key is Vce(sat) (models/README.md §8): same price, neither
     preferred; at 2 mA, 60 mV (worked above) ranks ahead of the part with
     points 100 mV at 1 mA and 200 mV at 10 mA: 100 + (1/9)·100 = 111.11 mV."""
     df = write_catalog(tmp_path, [part(GOOD_NPN, part="HIGH", **{"vce_sat_mV@1mA": 100,
@@ -720,7 +720,7 @@ def test_switch_ties_broken_by_vce_sat(tmp_path):
 
 
 def test_no_priced_feasible_part_means_no_choice(tmp_path):
-    """A feasible part without a price is listed but not chosen (models.md §7-§8)."""
+    """A feasible part without a price is listed but not chosen (models/README.md §7-§8)."""
     df = write_catalog(tmp_path, [part(GOOD_PMOS, price__1=None, price__1000=None)])
     res = run_role(df, requirements(pass_role()))
     assert bool(row_of(res, "TPX-1")["feasible"]) and row_of(res, "TPX-1")["no_price"]
@@ -762,7 +762,7 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
     (no on-resistance point) or have no rth."""
     from conftest import DEMO
 
-    from picker import engine
+    from picker.engine import evaluate as engine
 
     solve = engine.thermal.solve_junction_temperature
 
@@ -789,13 +789,13 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
 @pytest.mark.parametrize("threads", ["1", "3"])
 def test_blocks_and_threads_give_the_same_table_as_one_pass(monkeypatch, threads):
     """Regression for a speed-up: a large catalogue is evaluated in blocks of
-    rows, on several threads (`engine.in_blocks`, `picker.parallel`). Blocks of
+    rows, on several threads (`engine.in_blocks`, `picker.engine.parallel`). Blocks of
     4 parts make the demo catalogue take that path; every value, dtype and the
     rank order must match one pass over all parts. Both role families, and a
     role with every optional check."""
     from conftest import DEMO
 
-    from picker import engine
+    from picker.engine import evaluate as engine
 
     demo = load_catalog(DEMO, source="test").df
     req = requirements(pass_role(load="1.2 A", extra='gate_drive_drop = "0.3 V"\nmax_tj = "85 degC"'),
@@ -816,7 +816,7 @@ def test_blocks_and_threads_give_the_same_table_as_one_pass(monkeypatch, threads
 def test_thread_count_comes_from_the_environment(monkeypatch):
     """PICKER_THREADS sets the threads (1 turns them off); anything but a
     whole number >= 1 falls back to the CPUs this process may use."""
-    from picker import parallel
+    from picker.engine import parallel
 
     monkeypatch.setenv("PICKER_THREADS", "3")
     assert parallel.workers() == 3

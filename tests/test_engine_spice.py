@@ -27,10 +27,10 @@ import subprocess
 import pytest
 
 from conftest import DEMO, EXAMPLES
-from picker.catalog import load_catalog, points, values
-from picker.engine import PASS, evaluate_role
+from picker.catalog.load import load_catalog, points, values
+from picker.engine.evaluate import PASS, evaluate_role
 from picker.models import mosfet
-from picker.requirements import load_requirements, parse_requirements
+from picker.design.requirements import load_requirements, parse_requirements
 
 NGSPICE = shutil.which("ngspice")
 needs_ngspice = pytest.mark.skipif(
@@ -374,7 +374,7 @@ def test_vbe_temperature_coefficient_against_simulator(tmp_path, ic_A):
     Expected from the junction law, dVbe/dT = (Vbe - EG - XTI·VT)/T
     ≈ (0.65 - 1.11 - 0.08)/300 ≈ -1.8 mV/°C at these currents; "about 2"
     is taken as within 25 %: the simulator's slope must lie in -1.5 to
-    -2.5 mV/°C, and ours is the -2.0 of models.md §6."""
+    -2.5 mV/°C, and ours is the -2.0 of models/README.md §6."""
     vbe = {}
     for t_C in (0.0, 50.0):
         deck = f"""diode-connected npn

@@ -1,4 +1,4 @@
-"""Fuzzing the BOM reader (picker.bom): any bytes give a Bom whose warnings
+"""Fuzzing the BOM reader (picker.review.bom): any bytes give a Bom whose warnings
 name the file and line, or a BomError naming the file; never another
 exception. Whatever is read can be written back as a revised BOM that reads
 again with the same lines, and unchanged cells keep their values.
@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 
 from conftest import DEMO, EXAMPLES, ROOT
 from fuzzing import FUZZ, csv_like, mutated, nasty_cell, ours
-from picker.bom import (MAX_RANGE, Change, PartIndex, _physical_lines, expand_refs, read_bom,
+from picker.review.bom import (MAX_RANGE, Change, PartIndex, _physical_lines, expand_refs, read_bom,
                         revised_bom)
 from picker.errors import BomError, PickerError
 
@@ -121,7 +121,7 @@ def test_mutated_boms(data, wanted):
         _check_revised(bom, wanted)
 
 
-INDEX = PartIndex(__import__("picker.catalog", fromlist=["x"]).load_catalog(
+INDEX = PartIndex(__import__("picker.catalog.load", fromlist=["x"]).load_catalog(
     DEMO, source="test", cache=False).df["part"])
 
 
@@ -165,7 +165,7 @@ def test_regression_refs_of_the_whole_bom_are_bounded(monkeypatch):
     """Ranges of up to MAX_RANGE refs on every line of a large BOM could still
     expand to billions of refs: the whole BOM is bounded by MAX_REFS, an error
     naming the line where the bound is passed."""
-    import picker.bom as bom_module
+    import picker.review.bom as bom_module
 
     monkeypatch.setattr(bom_module, "MAX_REFS", 25)
     rows = "".join(f"Q{10 * k + 1}-Q{10 * k + 10},10,P{k}\n" for k in range(3))
@@ -217,7 +217,7 @@ def test_regression_lone_carriage_return_in_a_rewritten_cell_is_quoted(monkeypat
     """Where the byte-keeping copy falls back to writing every cell again, a
     value holding a lone CR (a catalogue cell may) was written unquoted by the
     csv module's writer, so the revised BOM read back with an extra line."""
-    import picker.bom as bom_module
+    import picker.review.bom as bom_module
 
     monkeypatch.setattr(bom_module, "_faithful", lambda *a: False)
     bom = read_bom(PATH, data=b"Ref,Qty,MPN,Manufacturer\nQ1,1,ABC,Old\nQ2,1,DEF,Old\n")
@@ -242,7 +242,7 @@ def test_regression_rewritten_bom_keeps_fields_past_the_header():
 
 def test_regression_rewritten_bom_keeps_its_title_lines(monkeypatch):
     """The same fallback dropped the title lines above the header."""
-    import picker.bom as bom_module
+    import picker.review.bom as bom_module
 
     monkeypatch.setattr(bom_module, "_faithful", lambda *a: False)
     data = b"Bill of materials\nBoard: KL-1\n\nRef,Qty,MPN\nQ1,1,ABC\n"

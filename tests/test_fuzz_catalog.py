@@ -1,4 +1,4 @@
-"""Fuzzing the catalogue reader (picker.tabular + picker.catalog): any bytes
+"""Fuzzing the catalogue reader (picker.catalog.tabular + picker.catalog.load): any bytes
 give a Catalog whose every problem names the file and line, or a CatalogError
 naming the file; never another exception.
 
@@ -20,8 +20,8 @@ from hypothesis import strategies as st
 
 from conftest import DEMO, TINY_CSV
 from fuzzing import FUZZ, csv_like, mutated, ours
-from picker import tabular
-from picker.catalog import load_catalog
+from picker.catalog import tabular
+from picker.catalog.load import load_catalog
 from picker.errors import CatalogError, PickerError
 
 PATH = "fuzz/catalogue.csv"

@@ -1,4 +1,4 @@
-"""Fuzzing the import path (picker.importer, picker.importer_merge): mapping
+"""Fuzzing the import path (picker.catalog.importer, picker.catalog.merge): mapping
 files, raw parameter tables, single cells. Any input gives a result or one of
 our errors naming the file; never another exception; and nothing is written
 (the merge is planned and checked, never applied here: see test_safe_io.py
@@ -17,12 +17,12 @@ from hypothesis import strategies as st
 
 from conftest import ROOT, TINY_CSV
 from fuzzing import FUZZ, mutated, nasty_cell, ours
-from picker import columns as cols
+from picker.catalog import columns as cols
 from picker.errors import CatalogError, MappingError, PickerError
-from picker.importer import (cell_values, clean_number, load_mapping, mapping_toml,
+from picker.catalog.importer import (cell_values, clean_number, load_mapping, mapping_toml,
                              match_header, propose_mapping, read_kind, target_from_name)
-from picker.importer_merge import plan_merge, read_rows
-from picker.tabular import read_table
+from picker.catalog.merge import plan_merge, read_rows
+from picker.catalog.tabular import read_table
 
 RAW = "fuzz/raw.csv"
 RAW_PATHS = sorted((ROOT / "tests" / "data" / "import").glob("*.csv"))
@@ -189,7 +189,7 @@ def test_regression_point_conditions_out_of_range():
     error, a MappingError)."""
     import pytest
 
-    from picker.catalog import load_catalog
+    from picker.catalog.load import load_catalog
 
     for header in ("price@1e999999", "price@1e99999999999999", "rds_on_mohm@1e999999V",
                    "price@" + "9" * 5000, "hfe_min@1e-99mA"):

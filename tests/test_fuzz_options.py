@@ -18,7 +18,7 @@ from hypothesis import strategies as st
 from conftest import EXAMPLES, ROOT, TINY_CSV, invoke
 from fuzzing import FUZZ, nasty_cell, ours
 from picker.errors import PickerError, RequirementError
-from picker.requirements import OPTION_KEYS, USES, from_options, load_requirements
+from picker.design.requirements import OPTION_KEYS, USES, from_options, load_requirements
 
 BASE = load_requirements(EXAMPLES / "kettlewick-power.toml")
 

@@ -14,7 +14,7 @@ from hypothesis import strategies as st
 
 from fuzzing import FUZZ, NASTY_CELLS, ours
 from picker.errors import QuantityError
-from picker.quantities import PREFIX_EXP, SYMBOLS, UNITS, parse_quantity, parse_range
+from picker.catalog.quantities import PREFIX_EXP, SYMBOLS, UNITS, parse_quantity, parse_range
 
 unit_keys = st.sampled_from(sorted(UNITS))
 
@@ -102,7 +102,7 @@ def test_regression_messages_stay_on_one_line():
     control characters as escapes."""
     import pytest
 
-    from picker.catalog import load_catalog
+    from picker.catalog.load import load_catalog
 
     with pytest.raises(QuantityError) as info:
         parse_quantity("a\nb\x1b[31m", "V")

@@ -1,4 +1,4 @@
-"""Fuzzing the requirement file reader (picker.requirements): any text gives
+"""Fuzzing the requirement file reader (picker.design.requirements): any text gives
 Requirements or a RequirementError naming the file (and, for a problem at a
 key, its line), never another exception.
 
@@ -22,7 +22,7 @@ from hypothesis import strategies as st
 from conftest import EXAMPLES
 from fuzzing import FUZZ, NASTY_CELLS, mutated, ours
 from picker.errors import PickerError, RequirementError
-from picker.requirements import (MAX_FILE_BYTES, MAX_REFS, MAX_ROLES, ROLE_KEYS, TABLE_KEYS,
+from picker.design.requirements import (MAX_FILE_BYTES, MAX_REFS, MAX_ROLES, ROLE_KEYS, TABLE_KEYS,
                                  load_requirements, parse_requirements)
 
 SOURCE = "fuzz/req.toml"

@@ -4,9 +4,9 @@ hand, and against the engine's own pass/fail either side of it.
 Sources, named again beside each check:
 - on-resistance R = R_fix + K / (Vg - Vt): the long-channel triode region of
   the square-law MOSFET (Sedra & Smith, *Microelectronic Circuits*); two
-  datasheet points fix R_fix and K exactly (models.md §1);
-- R rises 0.5 %/°C and Vt falls 3 mV/°C: from memory (models.md §2);
-- gate check vgs >= Vt(Ta) + 0.1 V: models.md §6 (common practice);
+  datasheet points fix R_fix and K exactly (models/README.md §1);
+- R rises 0.5 %/°C and Vt falls 3 mV/°C: from memory (models/README.md §2);
+- gate check vgs >= Vt(Ta) + 0.1 V: models/README.md §6 (common practice);
 - Ib = (drive - Vbe) / Rb (Ohm's law) and Vbe falling about 2 mV/°C
   (Horowitz & Hill, *The Art of Electronics*); hFE rising 0.5 %/°C: from memory;
 - a lithium-ion cell spans about 3.0 V (cut-off) to 4.2 V (full): common practice.
@@ -23,10 +23,11 @@ import dataclasses
 import numpy as np
 import pytest
 
-from picker import engine, headroom
-from picker.catalog import load_catalog
-from picker.engine import FAIL, PASS, evaluate_role
-from picker.requirements import load_requirements, parse_requirements
+from picker.engine import evaluate as engine
+from picker.engine import headroom
+from picker.catalog.load import load_catalog
+from picker.engine.evaluate import FAIL, PASS, evaluate_role
+from picker.design.requirements import load_requirements, parse_requirements
 
 from conftest import EXAMPLES
 
@@ -78,10 +79,10 @@ def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path, m
 
         I * m * (R_fix + K / (V - gdd - Vt)) = max_drop
         V = Vt + K / (max_drop / I / m - R_fix) + gate_drive_drop,
-        m = 1 + 0.005 (Ta - 25)                       (models.md §2, from memory)
+        m = 1 + 0.005 (Ta - 25)                       (models/README.md §2, from memory)
 
     Part: Vt = 1.0 V, 40 mΩ at 4.5 V, 60 mΩ at 2.5 V. Two points fix the line
-    R = R_fix + K x, x = 1/(Vg - Vt) (Sedra & Smith triode region; models.md §1):
+    R = R_fix + K x, x = 1/(Vg - Vt) (Sedra & Smith triode region; models/README.md §1):
         x1 = 1/3.5 = 0.285714, x2 = 1/1.5 = 0.666667
         K = (60 - 40) / (0.666667 - 0.285714) = 52.5 mΩ·V
         R_fix = 40 - 52.5/3.5 = 25 mΩ
@@ -115,12 +116,12 @@ def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path, m
 @pytest.mark.parametrize("tc, cold, hot", [
     # k_vt = 0: V = Vt + 0.1 + gdd = 1.0 + 0.1 + 0.1 at both corners.
     ("0", 1.2, 1.2),
-    # default 3 mV/°C (from memory, models.md §2): Vt(-20) = 1.0 + 0.003·45 = 1.135 V,
+    # default 3 mV/°C (from memory, models/README.md §2): Vt(-20) = 1.0 + 0.003·45 = 1.135 V,
     # Vt(45) = 1.0 - 0.003·20 = 0.94 V; V = Vt(Ta) + 0.1 + 0.1.
     ("", 1.335, 1.14),
 ])
 def test_closed_form_gate_limited(tmp_path, tc, cold, hot):
-    """With a loose drop limit (1 V) the gate check binds (models.md §6):
+    """With a loose drop limit (1 V) the gate check binds (models/README.md §6):
     vgs = V - gdd >= Vt(Ta) + 0.1 V, so V = Vt(Ta) + 0.1 V + gdd. At that
     drive R = (25 + 52.5/0.1) mΩ · m = 550 mΩ · m, a drop of at most
     0.55 V · 1.1 = 0.605 V < 1 V: the drop does not bind."""
@@ -136,7 +137,7 @@ def test_closed_form_gate_limited(tmp_path, tc, cold, hot):
 
 def test_closed_form_bipolar_saturation(tmp_path, tiny_catalog):
     """npn switch, base driven from the cell through Rb = 10 kΩ, Ic = 1 mA,
-    overdrive 2 (models.md §6). Saturation holds while
+    overdrive 2 (models/README.md §6). Saturation holds while
         Ib·hFE(T) >= 2·Ic,  Ib = (V - Vbe(T)) / Rb   (Ohm's law)
         V = Vbe(T) + 2·Ic·Rb / hFE(T)
     TQB-400 (conftest TINY_CSV): hFE min 100 at 1 mA; no vbe_on_V, so 0.65 V.

@@ -33,12 +33,12 @@ from pathlib import Path
 import pytest
 
 import picker.cli.import_cmd  # noqa: F401  registers the commands until picker/cli/__init__.py does
-from picker.catalog import bundled_catalog, load_catalog
+from picker.catalog.load import bundled_catalog, load_catalog
 from picker.errors import MappingError, QuantityError, WriteRefused
-from picker.importer import (Target, cell_values, load_mapping, mapping_toml, match_header,
+from picker.catalog.importer import (Target, cell_values, load_mapping, mapping_toml, match_header,
                              propose_mapping, read_kind)
-from picker.importer_merge import plan_merge, read_rows, stale_temporaries, write_plan
-from picker.tabular import read_table
+from picker.catalog.merge import plan_merge, read_rows, stale_temporaries, write_plan
+from picker.catalog.tabular import read_table
 
 ROOT = Path(__file__).resolve().parents[1]
 DATA = Path(__file__).resolve().parent / "data" / "import"
@@ -295,7 +295,7 @@ EXPECTED = {
 
 
 def _si(column: str, value: float) -> float:
-    from picker import columns as cols
+    from picker.catalog import columns as cols
 
     return value * SI[cols.spec_of(column)[0]]
 

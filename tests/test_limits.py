@@ -26,12 +26,14 @@ import time
 import pytest
 
 from conftest import EXAMPLES, TINY_CSV, run_cli
-from picker import bom as bom_module
-from picker import importer, requirements, tabular
-from picker.bom import read_bom
-from picker.catalog import load_catalog
+from picker.review import bom as bom_module
+from picker.catalog import importer
+from picker.design import requirements
+from picker.catalog import tabular
+from picker.review.bom import read_bom
+from picker.catalog.load import load_catalog
 from picker.errors import BomError, CatalogError, RequirementError, TooLarge
-from picker.requirements import from_options, load_requirements, parse_requirements
+from picker.design.requirements import from_options, load_requirements, parse_requirements
 
 REQ_TEXT = (EXAMPLES / "kettlewick-power.toml").read_text(encoding="utf-8")
 

@@ -2,7 +2,7 @@
 
 What is checked against what:
 - the JSON's figures, checks, notes and price against `picker choose`'s JSON
-  for the same parts (the engine, models.md §5-§8): they must be equal, not
+  for the same parts (the engine, models/README.md §5-§8): they must be equal, not
   close;
 - each corner's drop against the engine's own drop_cold_V / drop_hot_V;
 - the lowest working supply against the engine's pass/fail 1 mV either side
@@ -24,11 +24,11 @@ import re
 import pytest
 
 from conftest import EXAMPLES, invoke, run_cli
-from picker import headroom
-from picker.catalog import load_catalog
-from picker.engine import FAIL, PASS, evaluate_role
-from picker.lineup import build_lineup, report
-from picker.requirements import load_requirements
+from picker.engine import headroom
+from picker.catalog.load import load_catalog
+from picker.engine.evaluate import FAIL, PASS, evaluate_role
+from picker.present.lineup import build_lineup, report
+from picker.design.requirements import load_requirements
 
 POWER = str(EXAMPLES / "kettlewick-power.toml")
 FINALISTS = ["VTQ24P15-3", "AGXP219-23", "BWF418P-A"]
@@ -63,7 +63,7 @@ def test_json_equals_the_engine_for_the_same_parts():
 
 def test_corner_figures_are_the_engines_per_corner_figures():
     """The engine computes the drop at each corner itself (drop_cold_V,
-    drop_hot_V, models.md §5); lineup's per-corner rows must equal them."""
+    drop_hot_V, models/README.md §5); lineup's per-corner rows must equal them."""
     doc = _json("lineup", *FINALISTS, "-R", POWER, "-r", "cell-switch", "-f", "json")
     df = load_catalog(None).df
     req = load_requirements(POWER)
@@ -77,7 +77,7 @@ def test_corner_figures_are_the_engines_per_corner_figures():
 
 def test_lowest_supply_in_lineup_holds_either_side():
     """The lowest working supply lineup reports: the engine passes gate drive,
-    drop and Tj 1 mV above it, and not 1 mV below (models.md §5-§6)."""
+    drop and Tj 1 mV above it, and not 1 mV below (models/README.md §5-§6)."""
     doc = _json("lineup", *FINALISTS, "-R", POWER, "-r", "cell-switch", "-f", "json")
     df = load_catalog(None).df
     req = load_requirements(POWER)
@@ -121,7 +121,7 @@ def test_table_shows_best_values_in_bold():
         def isatty(self):
             return True
 
-    from picker.render import render
+    from picker.present.render import render
 
     out = Terminal()
     render(rep, "table", out, width=200)

@@ -1,4 +1,4 @@
-"""Saturated bipolar switch (models.md §6), checked like a datasheet.
+"""Saturated bipolar switch (models/README.md §6), checked like a datasheet.
 
 Sources: Vbe falls about 2 mV/°C (Horowitz & Hill, The Art of Electronics);
 hFE rises about 0.5 %/°C (from memory); log-log and linear interpolation
@@ -48,7 +48,7 @@ def test_base_current_by_hand():
 
 
 def test_hfe_log_log_interpolation_by_hand():
-    """hFE 100 at 0.1 mA, 200 at 10 mA; at 1 mA (models.md §6, log-log):
+    """hFE 100 at 0.1 mA, 200 at 10 mA; at 1 mA (models/README.md §6, log-log):
     ln h = ln 100 + (ln 1e-3 - ln 1e-4)/(ln 1e-2 - ln 1e-4)·(ln 200 - ln 100)
          = ln 100 + (1/2) ln 2 → h = 100·√2 = 141.42.
     Columns in any order with NaN gaps; checked against numpy.interp in log space too.
@@ -64,7 +64,7 @@ def test_hfe_log_log_interpolation_by_hand():
 
 
 def test_hfe_clamps_at_the_ends_and_flags_only_below():
-    """Points 100 at 0.1 mA, 200 at 10 mA, 150 at 100 mA (models.md §6):
+    """Points 100 at 0.1 mA, 200 at 10 mA, 150 at 100 mA (models/README.md §6):
     40 µA (below) → 100, extrapolated; exactly 0.1 mA → 100, not flagged;
     1 A (above) → 150, not flagged; 50 mA → between 200 and 150 in log-log."""
     ic_points_A = np.tile([1e-4, 1e-2, 1e-1], (4, 1))
@@ -94,7 +94,7 @@ def test_hfe_rises_half_a_percent_per_degree():
 
 
 def test_vce_sat_linear_interpolation_by_hand():
-    """0.10 V at 10 mA, 0.30 V at 100 mA (Ic/Ib = 10), linear in Ic (models.md §6):
+    """0.10 V at 10 mA, 0.30 V at 100 mA (Ic/Ib = 10), linear in Ic (models/README.md §6):
     50 mA → 0.10 + (50 - 10)/(100 - 10)·0.20 = 0.10 + 0.0888889 = 0.188889 V;
     1 mA → 0.10 V (lowest point), 1 A → 0.30 V (highest); no points → NaN.
     Checked against numpy.interp, which clamps the same way."""
@@ -109,7 +109,7 @@ def test_vce_sat_linear_interpolation_by_hand():
 
 
 def test_forced_gain_decides_the_vce_sat_guarantee():
-    """Datasheet Vce(sat) holds at Ic/Ib <= 10 (models.md §6):
+    """Datasheet Vce(sat) holds at Ic/Ib <= 10 (models/README.md §6):
     40 µA / 33.235 µA = 1.2 → guaranteed; 100 mA / 1 mA = 100 → not; 10 mA / 1 mA = 10 → yes;
     unknown Ib → NaN gain, not guaranteed; Ib = 0 → infinite gain, not guaranteed."""
     ic_A = np.array([40e-6, 0.1, 0.01, 0.01, 0.01])
@@ -122,7 +122,7 @@ def test_forced_gain_decides_the_vce_sat_guarantee():
 
 
 def test_latch_switch_at_the_cold_corner_by_hand():
-    """40 µA collector, 68 kΩ from a 3.0 V cell, -20 °C, hFE 100 at 0.1 mA only (models.md §6):
+    """40 µA collector, 68 kΩ from a 3.0 V cell, -20 °C, hFE 100 at 0.1 mA only (models/README.md §6):
     Vbe = 0.65 + 0.002·45 = 0.74 V (Horowitz & Hill); Ib = 2.26 V/68 kΩ = 33.235 µA;
     hFE = 100 (below the lowest point: extrapolated) · 0.775 (from memory) = 77.5;
     Ib·hFE/Ic = 33.235e-6·77.5/40e-6 = 64.39 ≥ overdrive 2: saturates."""

@@ -1,4 +1,4 @@
-"""Off-state leakage against temperature (models.md §4).
+"""Off-state leakage against temperature (models/README.md §4).
 
 Sources: leakage doubles every 10 °C (common practice); the exponential
 through two datasheet points is exact algebra, I25 (I_hot/I25)^((T-25)/(T_hot-25)).

@@ -1,4 +1,4 @@
-"""On-resistance fit and temperature model (models.md §1-§2), checked like a datasheet.
+"""On-resistance fit and temperature model (models/README.md §1-§2), checked like a datasheet.
 
 Sources: the triode-region channel resistance 1 / (k (Vgs - Vt)) (Sedra & Smith,
 MOSFET triode region); least squares against numpy.linalg.lstsq; a level-1
@@ -39,7 +39,7 @@ def test_two_point_fit_by_hand():
     x1 = 1/(2.5 - 1) = 1/1.5 = 0.666667, x2 = 1/(4.5 - 1) = 1/3.5 = 0.285714.
     K = (R1 - R2)/(x1 - x2) = 0.020/0.380952 = 0.0525 Ω·V;
     R_fix = R2 - K x2 = 0.040 - 0.0525/3.5 = 0.040 - 0.015 = 0.025 Ω.
-    Source: Sedra & Smith, MOSFET triode region (the model), models.md §1 (the fit).
+    Source: Sedra & Smith, MOSFET triode region (the model), models/README.md §1 (the fit).
     """
     fit = fit_one([2.5, 4.5], [0.060, 0.040], 1.0)
     assert fit.k_ohm_V[0] == pytest.approx(0.0525, rel=REL_TOL)
@@ -79,7 +79,7 @@ def test_negative_fixed_part_is_clamped_to_zero():
     R_fix = 0.020 - 0.112·2/7 = 0.020 - 0.032 = -0.012 Ω < 0 → R_fix = 0 and
     K = Σ x R / Σ x² = (0.1 + 0.04/7) / (1 + 4/49) = (0.74/7)·(49/53) = 5.18/53
     = 0.0977358 Ω·V. Also checked against numpy.linalg.lstsq through the origin.
-    Source: models.md §1 (the constraint).
+    Source: models/README.md §1 (the constraint).
     """
     fit = fit_one([2.0, 4.5], [0.100, 0.020], 1.0)
     assert fit.r_fix_ohm[0] == 0.0
@@ -93,7 +93,7 @@ def test_negative_slope_is_clamped_to_zero():
     """Vt = 1.0 V; 40 mΩ at 2.5 V, 42 mΩ at 4.5 V: R rises with drive (rounded data).
 
     Free fit gives K = (0.040 - 0.042)/(1/1.5 - 1/3.5) < 0 → K = 0,
-    R_fix = mean = (0.040 + 0.042)/2 = 0.041 Ω. Source: models.md §1.
+    R_fix = mean = (0.040 + 0.042)/2 = 0.041 Ω. Source: models/README.md §1.
     """
     fit = fit_one([2.5, 4.5], [0.040, 0.042], 1.0)
     assert fit.k_ohm_V[0] == 0.0
@@ -101,7 +101,7 @@ def test_negative_slope_is_clamped_to_zero():
 
 
 def test_one_point_is_all_channel():
-    """Vt = 1.0 V; 50 mΩ at 2.5 V → R_fix = 0, K = 0.050·(2.5 - 1.0) = 0.075 Ω·V (models.md §1)."""
+    """Vt = 1.0 V; 50 mΩ at 2.5 V → R_fix = 0, K = 0.050·(2.5 - 1.0) = 0.075 Ω·V (models/README.md §1)."""
     fit = fit_one([NAN, 2.5, NAN], [0.030, 0.050, NAN], 1.0)  # 0.030 has no drive: not a point
     assert fit.r_fix_ohm[0] == 0.0
     assert fit.k_ohm_V[0] == pytest.approx(0.075, rel=REL_TOL)
@@ -120,7 +120,7 @@ def test_no_point_or_no_threshold_is_unknown():
 
 @pytest.mark.parametrize("low_drive_V", [1.0, 0.8])
 def test_point_at_or_below_threshold_is_not_fitted(low_drive_V):
-    """A point at V <= Vt (1.0 V) is a catalogue error: no fit through it, NaN (models.md §1)."""
+    """A point at V <= Vt (1.0 V) is a catalogue error: no fit through it, NaN (models/README.md §1)."""
     fit = fit_one([low_drive_V, 4.5], [0.200, 0.040], 1.0)
     assert np.isnan(fit.r_fix_ohm[0]) and np.isnan(fit.k_ohm_V[0])
 
@@ -182,7 +182,7 @@ def test_resistance_multiplier_is_1_5_at_125_C():
 
 
 def test_cold_corner_by_hand():
-    """Vg = 2.9 V at -20 °C, fit (0.025 Ω, 0.0525 Ω·V), Vt25 = 1.0 V (models.md §2).
+    """Vg = 2.9 V at -20 °C, fit (0.025 Ω, 0.0525 Ω·V), Vt25 = 1.0 V (models/README.md §2).
 
     Vt(-20) = 1.0 + 0.003·45 = 1.135 V; overdrive 2.9 - 1.135 = 1.765 V;
     R25-equivalent 0.025 + 0.0525/1.765 = 0.025 + 0.0297450 = 0.0547450 Ω;
@@ -202,7 +202,7 @@ def test_no_channel_below_threshold_and_nan_propagates():
 
 
 def test_extrapolated_below_lowest_drive():
-    """models.md §1: a drive under the lowest datasheet point is flagged; NaN is not."""
+    """models/README.md §1: a drive under the lowest datasheet point is flagged; NaN is not."""
     got = extrapolated(np.array([2.0, 2.5, 3.0, 2.0]), np.array([2.5, 2.5, 2.5, NAN]))
     assert list(got) == [True, False, False, False]
 

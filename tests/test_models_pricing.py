@@ -1,4 +1,4 @@
-"""Unit price at the build quantity from price breaks (models.md §7).
+"""Unit price at the build quantity from price breaks (models/README.md §7).
 
 Source: the usual reading of a quantity break table (common practice): the
 price at quantity N applies from N pieces up, until the next break.

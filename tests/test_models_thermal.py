@@ -1,4 +1,4 @@
-"""Self-heating by fixed-point iteration (models.md §3) against the closed form.
+"""Self-heating by fixed-point iteration (models/README.md §3) against the closed form.
 
 Source: Tj = Ta + P theta_JA (JEDEC JESD51 junction-to-ambient thermal
 resistance), P = I² R(Tj), R(T) = R25 (1 + a (T - 25)) with a = 0.5 %/°C
@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 from picker.models.mosfet import RDS_TC_PER_C, heated_resistance, on_resistance
 from picker.models.thermal import RUNAWAY_BOUND_C, solve_junction_temperature
 
-TOL_C = 0.01  # the iteration's stopping step, models.md §3
+TOL_C = 0.01  # the iteration's stopping step, models/README.md §3
 A_PER_C = RDS_TC_PER_C  # 0.005 /°C, from memory
 
 
@@ -160,7 +160,7 @@ def test_narrowing_to_the_moving_parts_changes_nothing():
 
 
 def test_heated_resistance_is_on_resistance_with_its_constants_folded():
-    """R(T) of the self-heating solve against `on_resistance` (models.md §1-§2),
+    """R(T) of the self-heating solve against `on_resistance` (models/README.md §1-§2),
     for all parts and for a subset taken out: equal to rounding."""
     rng = np.random.default_rng(3)
     n = 200

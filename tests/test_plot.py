@@ -5,7 +5,7 @@ What is checked against what:
   engine (`evaluate_role`, nothing replaced but supply.min) at that supply:
   equal to the last bit, in mV (x 1000);
 - the datasheet points marked on the fit chart against the catalogue cells;
-  with two points the least-squares line goes through both (models.md §1), so
+  with two points the least-squares line goes through both (models/README.md §1), so
   the fitted curve at a datasheet drive equals the datasheet value;
 - the PNG's size from its IHDR chunk (PNG specification, ISO/IEC 15948: the
   8-byte signature, then IHDR with width and height as 4-byte big-endian
@@ -28,10 +28,11 @@ import importlib.util
 import os
 
 from conftest import EXAMPLES, invoke, run_cli, sha256
-from picker import headroom, plot
-from picker.catalog import load_catalog
-from picker.engine import evaluate_role
-from picker.requirements import load_requirements
+from picker.engine import headroom
+from picker.present import plot
+from picker.catalog.load import load_catalog
+from picker.engine.evaluate import evaluate_role
+from picker.design.requirements import load_requirements
 
 # PNG and SVG need the optional extra (pip install "picker[plot]"); CI installs
 # it, so there a missing matplotlib fails instead of skipping.
@@ -51,7 +52,7 @@ def demo():
 
 
 def _parts(df, names):
-    from picker.lineup import find_parts
+    from picker.present.lineup import find_parts
 
     return find_parts(df, names)
 
@@ -111,7 +112,7 @@ def test_grid_spans_the_cell_and_beyond(demo):
 def test_fit_chart_marks_the_datasheet_points(demo):
     """The markers are the catalogue's own Rds(on) cells (mΩ at their drive);
     for AGXP219-23 the fitted curve passes close to them (least squares of
-    four points, models.md §1: within 3 % here)."""
+    four points, models/README.md §1: within 3 % here)."""
     df, req = demo
     role = req.role("cell-switch")
     parts = _parts(df, FINALISTS)

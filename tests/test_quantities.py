@@ -15,7 +15,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from picker.errors import PickerError, QuantityError
-from picker.quantities import format_quantity, parse_quantity, parse_range
+from picker.catalog.quantities import format_quantity, parse_quantity, parse_range
 
 REL_TOL = 0.0  # decimal arithmetic: results are exact
 

@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 
 from picker.errors import PickerError, RequirementError
-from picker.requirements import (
+from picker.design.requirements import (
     KIND_OF_USE, MAX_REFS, MAX_ROLES, USES, Requirements, Role, assumed, from_options,
     load_requirements, parse_requirements,
 )
@@ -112,7 +112,7 @@ def test_interface_example_in_si_units(tmp_path):
 
 def test_plain_numbers_are_base_units_and_defaults_apply():
     """Plain numbers are V, A, ohm, Ah and °C (interfaces.md); unset margins and role
-    fields take the defaults of models.md §6 (derate 0.8 / 0.5, margin 25 °C, drive drop
+    fields take the defaults of models/README.md §6 (derate 0.8 / 0.5, margin 25 °C, drive drop
     0.1 V, overdrive 2)."""
     text = ("[supply]\nmin = 3\nmax = 4.2\n[ambient]\nmin = -20\nmax = 50\n[build]\nvolume = 10\n"
             '[[role]]\nname = "s"\nrefs = ["Q1"]\nuse = "pnp-switch"\ncollector_current = 0.02\n'
@@ -162,7 +162,7 @@ def test_inline_table_is_located_by_its_key():
 
 def test_import_stays_light():
     """Start-up time: reading a requirement file pulls in neither pandas nor rapidfuzz."""
-    code = "import sys, picker.requirements; print(sorted({'pandas', 'rapidfuzz'} & set(sys.modules)))"
+    code = "import sys, picker.design.requirements; print(sorted({'pandas', 'rapidfuzz'} & set(sys.modules)))"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT,
                          env={**os.environ, "PYTHONPATH": str(ROOT)}, timeout=60)
     assert out.stdout.strip() == "[]", out.stderr

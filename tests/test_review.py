@@ -2,9 +2,9 @@
 requirement-based proposals, and a BOM file that is never touched.
 
 Outside references: the on-resistance curve through a part's datasheet points
-is the long-channel triode model of models.md §1 (Sedra & Smith, MOSFET triode
-region), the gain interpolation the log-log rule of models.md §6, the hot
-leakage the two-point exponential of models.md §4; each hand computation is
+is the long-channel triode model of models/README.md §1 (Sedra & Smith, MOSFET triode
+region), the gain interpolation the log-log rule of models/README.md §6, the hot
+leakage the two-point exponential of models/README.md §4; each hand computation is
 written beside its row. The prices and parts are invented test data."""
 
 import json
@@ -15,10 +15,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from conftest import DEMO, EXAMPLES, ROOT, invoke, run_cli, sha256
-from picker.bom import read_bom
-from picker.catalog import load_catalog
+from picker.review.bom import read_bom
+from picker.catalog.load import load_catalog
 from picker.errors import CatalogError, UsageError
-from picker.review import Options, drop_ins, review
+from picker.review.propose import Options, drop_ins, review
 
 DATA = ROOT / "tests" / "data" / "review"
 DEMO_BOM = EXAMPLES / "kettlewick-bom.csv"
@@ -197,7 +197,7 @@ def test_drop_in_screen_covers_a_large_catalogue_in_one_call(tmp_path):
     """One incumbent screened against 20,000 copies of a qualifying part: one
     boolean per part comes back, all true. (Speed is measured by
     scripts/bench_review.py, not here.)"""
-    from picker.review import KindParts
+    from picker.review.propose import KindParts
 
     df = _catalogue(tmp_path, "npn", {})
     big = df.iloc[np.r_[0, np.ones(20_000, dtype=int)]].reset_index(drop=True)
@@ -224,7 +224,7 @@ def _review(bom_path, catalogue=DATA / "cost-catalogue.csv", **options):
 def test_savings_arithmetic_three_line_bom(volume, expected):
     """tests/data/review/three-lines.csv against cost-catalogue.csv, by hand.
 
-    Price breaks (unit price at quantity N and above; models.md §7):
+    Price breaks (unit price at quantity N and above; models/README.md §7):
         TPA-1  0.30 @1  0.12 @1000  0.08 @10000      TNB-1  0.050 @1  0.020 @1000  0.012 @10000
         TPA-2  0.25 @1  0.10 @1000  0.06 @10000      TNB-2  0.050 @1  0.018 @1000  0.010 @10000
     TPA-2 is a drop-in for TPA-1 and TNB-2 for TNB-1 (better on every figure);
@@ -329,7 +329,7 @@ def test_demo_drop_in(demo_df):
 
 
 def test_demo_with_requirements(demo_df):
-    from picker.requirements import load_requirements
+    from picker.design.requirements import load_requirements
 
     rv = review(read_bom(DEMO_BOM), demo_df, Options(volume=5000), load_requirements(POWER))
     lines = _by_refs(rv)
@@ -344,7 +344,7 @@ def test_incumbent_that_fails_its_role_is_a_finding_first(demo_df):
     cell switch allows 60 mV; Q2, Q3 MWB4410K leak 60 nA where the latch
     allows 50 nA. Both are findings, listed first; each line gets the cheapest
     feasible part in its own package even where it costs more."""
-    from picker.requirements import load_requirements
+    from picker.design.requirements import load_requirements
 
     rv = review(read_bom(DATA / "failing-incumbents.csv"), demo_df, Options(volume=5000),
                 load_requirements(POWER))
@@ -360,7 +360,7 @@ def test_incumbent_that_fails_its_role_is_a_finding_first(demo_df):
 
 
 def test_role_refs_not_in_the_bom_are_warned(demo_df, tmp_path):
-    from picker.requirements import load_requirements
+    from picker.design.requirements import load_requirements
 
     path = tmp_path / "b.csv"
     path.write_text("Refs,Qty,MPN\nQ1,1,HLP6125-T\n")

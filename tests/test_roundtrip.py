@@ -22,10 +22,10 @@ from hypothesis import strategies as st
 
 from conftest import DEMO, TINY_CSV, invoke, run_cli
 from fuzzing import FUZZ
-from picker import columns as cols
-from picker.catalog import load_catalog
-from picker.quantities import UNITS, format_quantity, parse_quantity
-from picker.render import restore
+from picker.catalog import columns as cols
+from picker.catalog.load import load_catalog
+from picker.catalog.quantities import UNITS, format_quantity, parse_quantity
+from picker.cells import restore
 
 
 def _frame(data: bytes) -> pd.DataFrame:

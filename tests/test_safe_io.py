@@ -186,7 +186,7 @@ def test_no_module_writes_a_file_but_through_write_atomic():
 
 
 def test_plot_writes_into_memory_only():
-    source = (ROOT / "picker" / "plot.py").read_text(encoding="utf-8")
+    source = (ROOT / "picker" / "present" / "plot.py").read_text(encoding="utf-8")
     assert re.findall(r"savefig\((\w+)", source) == ["buf"]
 
 

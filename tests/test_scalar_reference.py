@@ -1,6 +1,6 @@
 """The vectorised engine against a plain per-part re-implementation.
 
-scripts/scalar_reference.py writes models.md §1-§4, §6 and §7 the obvious
+scripts/scalar_reference.py writes models/README.md §1-§4, §6 and §7 the obvious
 way: one part at a time, plain floats and loops, no numpy. On every P-channel
 part of the demo catalogue, for the lantern's cell switch, both must give the
 same drop, junction temperature, off-state current, unit price and verdict.
@@ -12,16 +12,16 @@ import sys
 import pytest
 
 from conftest import DEMO, EXAMPLES, ROOT
-from picker.catalog import load_catalog
-from picker.engine import evaluate_role
-from picker.requirements import load_requirements
+from picker.catalog.load import load_catalog
+from picker.engine.evaluate import evaluate_role
+from picker.design.requirements import load_requirements
 
 sys.path.insert(0, str(ROOT / "scripts"))
 import scalar_reference  # noqa: E402
 
 # The reference stops its fixed point one step later or earlier than the
 # vectorised solve in rare cases; both are within the 0.01 °C tolerance of
-# models.md §3, which moves R by at most 0.5 %/°C x 0.01 °C = 5e-5.
+# models/README.md §3, which moves R by at most 0.5 %/°C x 0.01 °C = 5e-5.
 REL_TOL = 1e-4
 
 

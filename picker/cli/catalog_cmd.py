@@ -18,8 +18,8 @@ def check(
 
     Exit 0 when there is no error (warnings are printed), 2 when there is any.
     """
-    from picker.catalog import load_catalog
-    from picker.render import Column, Report, Section
+    from picker.catalog.load import load_catalog
+    from picker.present.render import Column, Report, Section
 
     catalog = load_catalog(file)
     say(f"checked {catalog.path} ({catalog.source}): {catalog.rows_read} rows, "
@@ -51,8 +51,8 @@ def show(
     """Browse the catalogue: one row a part, filtered by kind, package and text.
 
     CSV and JSON carry every column, in the catalogue's own units."""
-    from picker.catalog import select
-    from picker.render import Report, Section
+    from picker.catalog.load import select
+    from picker.present.render import Report, Section
 
     catalog = open_catalog(catalog_path, strict)
     found = select(catalog.df, parts=parts or [], kinds=kind or [], packages=package or [],
@@ -72,8 +72,8 @@ _KEY_COLUMNS = ("part", "maker", "kind", "package", "status", "preferred", "vds_
 def _show_columns(df, every: bool, wide: bool):
     """Every column for CSV/JSON (so the catalogue round-trips); for a table,
     the key columns (all with --wide) that have a value in the rows shown."""
-    from picker import columns as cols
-    from picker.render import Column
+    from picker.catalog import columns as cols
+    from picker.present.render import Column
 
     out = []
     for name in df.columns:

@@ -52,10 +52,10 @@ def choose(
     Exit 0 when every role has a feasible part, 1 when some role has none,
     2 on bad input.
     """
-    from picker.engine import design_json, evaluate
-    from picker.explain import choose_csv, choose_report
-    from picker.render import Report
-    from picker.requirements import assumed, from_options, load_requirements
+    from picker.engine.evaluate import design_json, evaluate
+    from picker.present.explain import choose_csv, choose_report
+    from picker.present.render import Report
+    from picker.design.requirements import assumed, from_options, load_requirements
 
     options = {
         "use": use, "supply": supply, "ambient": ambient, "capacity": capacity,

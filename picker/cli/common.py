@@ -34,7 +34,7 @@ USE_CACHE = True  # set for each invocation by the root --no-cache option
 
 def open_catalog(path: str | None, strict: bool):
     """Load the catalogue the options name and say which one it is."""
-    from picker.catalog import load_catalog, resolve_catalog
+    from picker.catalog.load import load_catalog, resolve_catalog
 
     try:
         size = os.path.getsize(resolve_catalog(path)[0])
@@ -50,7 +50,7 @@ def open_catalog(path: str | None, strict: bool):
 
 
 def emit(report, fmt: Fmt) -> None:
-    from picker.render import render
+    from picker.present.render import render
 
     render(report, fmt.value)
 

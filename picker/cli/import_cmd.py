@@ -1,6 +1,6 @@
 """`picker catalog import` and `picker catalog add`: bring parts into the catalogue.
 
-Both go through the same path (picker.importer / picker.importer_merge):
+Both go through the same path (picker.catalog.importer / picker.catalog.merge):
 values converted to the catalogue's units, compared with the catalogue,
 checked with the catalogue loader, written atomically with a `.bak`.
 """
@@ -77,10 +77,10 @@ def import_table(
     read (file:line:column), every difference with parts already in the
     catalogue, and the counts. Exit 0 when done, 2 when nothing was written
     because of bad input."""
-    from picker.importer import load_mapping, mapping_toml, propose_mapping
-    from picker.importer_merge import plan_merge, read_rows
+    from picker.catalog.importer import load_mapping, mapping_toml, propose_mapping
+    from picker.catalog.merge import plan_merge, read_rows
     from picker.safe_io import write_atomic
-    from picker.tabular import read_table
+    from picker.catalog.tabular import read_table
 
     target = _into(into)
     _exists(target)
@@ -113,7 +113,7 @@ def import_table(
 
 def _finish(plan, matches, notes, fmt: Fmt, dry_run: bool, blocked: bool) -> None:
     """Write (unless dry run or refused), then render; bad input exits 2."""
-    from picker.importer_merge import write_plan
+    from picker.catalog.merge import write_plan
 
     refused = plan.after is None or blocked
     written, backup = False, None
@@ -152,7 +152,7 @@ def _finish(plan, matches, notes, fmt: Fmt, dry_run: bool, blocked: bool) -> Non
 
 
 def _report(matches, plan, notes, written=False, backup=None):
-    from picker.render import Column, Report, Section
+    from picker.present.render import Column, Report, Section
 
     sections = []
     if matches:
@@ -260,7 +260,7 @@ def add(
 
     A part already in the catalogue with other values is listed field by field
     and kept unless --update."""
-    from picker.importer_merge import plan_merge, row_from_options
+    from picker.catalog.merge import plan_merge, row_from_options
 
     target = _into(into)
     _exists(target)

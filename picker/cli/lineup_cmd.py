@@ -20,8 +20,8 @@ RoleOpt = Annotated[Optional[str], typer.Option(
 
 def _role_and_requirements(requirements: str | None, role_name: str | None):
     from picker.errors import UsageError
-    from picker.lineup import pick_role
-    from picker.requirements import load_requirements
+    from picker.present.lineup import pick_role
+    from picker.design.requirements import load_requirements
 
     if requirements is None:
         if role_name is not None:
@@ -48,8 +48,8 @@ def lineup(
 
     Exit 0, or 2 on bad input (an unknown part answers with the closest names).
     """
-    from picker import headroom
-    from picker.lineup import build_lineup, report
+    from picker.engine import headroom
+    from picker.present.lineup import build_lineup, report
 
     req, chosen = _role_and_requirements(requirements, role)
     catalog = open_catalog(catalog_path, strict)
@@ -97,11 +97,12 @@ def curve(
 
     Exit 0, or 2 on bad input.
     """
-    from picker import headroom, plot
-    from picker.engine import evaluate_role
+    from picker.engine import headroom
+    from picker.present import plot
+    from picker.engine.evaluate import evaluate_role
     from picker.errors import UsageError, WriteRefused
-    from picker.explain import CAUTIONS
-    from picker.lineup import check_kinds, find_parts
+    from picker.present.explain import CAUTIONS
+    from picker.present.lineup import check_kinds, find_parts
 
     if requirements is None:
         raise UsageError("curve needs --requirements REQ.toml (and --role when the file has "
@@ -159,7 +160,7 @@ def curve(
     if fmt is Fmt.table:
         _print_charts(charts, sentences, CAUTIONS)
         return
-    from picker.render import Column, Report
+    from picker.present.render import Column, Report
 
     doc = {"role": {"name": chosen.name, "use": chosen.use, "requirements": req.source},
            "parts": [str(p) for p in chosen_parts["part"]],
@@ -183,7 +184,7 @@ def _print_charts(charts, sentences: list[str], cautions: list[str]) -> None:
     from rich.console import Console
     from rich.text import Text
 
-    from picker import plot
+    from picker.present import plot
 
     terminal = sys.stdout.isatty()
     console = Console(file=sys.stdout, highlight=False, soft_wrap=True,

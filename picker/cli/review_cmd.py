@@ -1,7 +1,7 @@
 """`picker review BOM.csv`: which transistor lines could be cheaper at this build
 volume without giving anything up; the BOM file itself is never written.
 
-The command parses options, calls `picker.bom` and `picker.review`, and turns
+The command parses options, calls `picker.review.bom` and `picker.review.propose`, and turns
 the result into one `Report` for the renderer (table, CSV or JSON)."""
 
 import math
@@ -67,13 +67,13 @@ def review(
     Exit 0 when something was found, 1 when there is nothing to propose,
     2 on bad input.
     """
-    from picker.bom import read_bom, revised_bom
+    from picker.review.bom import read_bom, revised_bom
     from picker.errors import BomError, WriteRefused
-    from picker.render import Report
-    from picker.requirements import load_requirements
-    from picker.review import DEFAULT_VOLUME, Options, review as run_review
+    from picker.present.render import Report
+    from picker.design.requirements import load_requirements
+    from picker.review.propose import DEFAULT_VOLUME, Options, review as run_review
     from picker.safe_io import write_atomic
-    from picker.tabular import read_bytes
+    from picker.catalog.tabular import read_bytes
 
     if confirm_at > take_at:
         raise UsageError(f"--confirm-at ({confirm_at:g}) must not be above --take-at ({take_at:g})")
@@ -255,7 +255,7 @@ def _totals(rv) -> dict:
 
 def review_json(rv) -> dict:
     """The review as one JSON document."""
-    from picker.render import clean
+    from picker.cells import clean
 
     return clean({
         "bom": rv.bom.path, "volume": rv.options.volume, "volume_source": rv.volume_source,
@@ -284,8 +284,8 @@ def _why(row: dict) -> str:
 
 def review_report(rv, *, all_lines: bool = False):
     """Findings first, then one row per transistor line, consolidation, totals, notes."""
-    from picker.explain import CAUTIONS
-    from picker.render import Column, Report, Section
+    from picker.present.explain import CAUTIONS
+    from picker.present.render import Column, Report, Section
 
     v = rv.options.volume
     money = dict(numeric=True, digits=6)
@@ -360,7 +360,7 @@ def review_report(rv, *, all_lines: bool = False):
 
 def review_csv(rv):
     """Every line, the consolidation and the totals in one table with a `section` column."""
-    from picker.render import Column
+    from picker.present.render import Column
 
     v = rv.options.volume
     rows = [dict(line_row(r, v), section="line") for r in rv.lines]

@@ -6,7 +6,7 @@ import numpy as np
 def or_default(values, default):
     """Return ``values`` as a float array with NaN entries replaced by ``default``.
 
-    Used for the parameters that models.md gives a default for and that a
+    Used for the parameters that models/README.md gives a default for and that a
     catalogue column may override (temperature coefficients, ``vbe_on_V``):
     there a blank cell is not *unknown*, it means *no override*.
     """

@@ -1,4 +1,4 @@
-"""Saturated small-signal bipolar switch (models.md §6, npn-switch and pnp-switch).
+"""Saturated small-signal bipolar switch (models/README.md §6, npn-switch and pnp-switch).
 
 All voltages and currents are magnitudes. Functions broadcast over the
 catalogue; NaN means unknown and propagates, except ``vbe25_V``, where NaN
@@ -10,7 +10,7 @@ import numpy as np
 
 from picker.models._defaults import or_default
 
-VBE_ON_V = 0.65  # typical silicon base-emitter voltage at low current (models.md §6)
+VBE_ON_V = 0.65  # typical silicon base-emitter voltage at low current (models/README.md §6)
 VBE_TC_V_PER_C = -0.002  # -2 mV/°C of a silicon junction (Horowitz & Hill)
 HFE_TC_PER_C = 0.005  # gain rises about 0.5 %/°C (from memory)
 VCE_SAT_FORCED_GAIN = 10  # datasheet Vce(sat) condition Ic/Ib = 10
@@ -80,8 +80,8 @@ def hfe_at_current(ic_points_A, hfe_points, ic_A):
     (ic_points_A may also be the (m,) column currents, shared by all parts);
     ic_A [A] scalar or (n,). Log-log interpolation between points:
     ``ln h = ln h1 + (ln Ic - ln I1) / (ln I2 - ln I1) * (ln h2 - ln h1)``
-    (models.md §6). Below the lowest point: its value, ``extrapolated`` True;
-    above the highest: its value, not flagged (models.md flags only below).
+    (models/README.md §6). Below the lowest point: its value, ``extrapolated`` True;
+    above the highest: its value, not flagged (models/README.md flags only below).
     No point: NaN. Returns ``(hfe, extrapolated)``.
     """
     return _interp_rows(ic_points_A, hfe_points, ic_A, log=True)
@@ -98,7 +98,7 @@ def vce_sat_at_current(ic_points_A, vce_sat_V_points, ic_A):
 
     ic_points_A [A] (n, m) or shared (m,), vce_sat_V_points [V] (n, m); NaN gaps, any order.
     Linear in Ic between points, ``V = V1 + (Ic - I1) / (I2 - I1) (V2 - V1)``;
-    the end value outside the points (models.md §6); NaN with no point.
+    the end value outside the points (models/README.md §6); NaN with no point.
     """
     return _interp_rows(ic_points_A, vce_sat_V_points, ic_A, log=False)[0]
 
@@ -122,7 +122,7 @@ def saturation_overdrive(ib_A, hfe, ic_A):
     """Available over required base drive, ``Ib hFE / Ic`` [-].
 
     The ``saturation`` check passes where this is ``>= overdrive`` (default 2)
-    at the cold corner (models.md §6). NaN where any input is unknown.
+    at the cold corner (models/README.md §6). NaN where any input is unknown.
     """
     with np.errstate(divide="ignore", invalid="ignore"):
         available_A = np.asarray(ib_A, dtype=float) * np.asarray(hfe, dtype=float)

@@ -1,4 +1,4 @@
-"""Off-state leakage against temperature (models.md §4)."""
+"""Off-state leakage against temperature (models/README.md §4)."""
 
 import numpy as np
 

@@ -1,4 +1,4 @@
-"""MOSFET on-resistance against gate drive and temperature (models.md §1-§2).
+"""MOSFET on-resistance against gate drive and temperature (models/README.md §1-§2).
 
 Model: ``R(Vg, T) = (R_fix + K / (Vg - Vt(T))) * (1 + a (T - 25))`` with
 ``Vt(T) = Vt25 - k_vt (T - 25)``. All voltages are magnitudes (a P-channel
@@ -43,7 +43,7 @@ def fit_on_resistance(drive_V, rds_ohm, vt_V) -> OnResistanceFit:
 
     Basis: the long-channel triode region, ``Id = k (Vgs - Vt) Vds`` at small
     Vds, so the channel is ``1 / (k (Vgs - Vt))`` (Sedra & Smith, MOSFET triode
-    region); R_fix is the part that does not depend on the gate (models.md §1).
+    region); R_fix is the part that does not depend on the gate (models/README.md §1).
 
     - two or more points: closed-form least squares from masked sums
       ``n, Sx, Sxx, SR, SxR``: ``K = (n SxR - Sx SR) / (n Sxx - Sx^2)``,
@@ -104,7 +104,7 @@ def threshold_at(vt25_V, t_C, k_vt_V_per_C=K_VT_V_PER_C):
     """Gate threshold at temperature: ``Vt(T) = Vt25 - k_vt (T - 25)``.
 
     vt25_V [V] threshold at 25 °C; t_C [°C]; k_vt_V_per_C [V/°C], scalar or
-    per part, NaN entries mean "use K_VT_V_PER_C". Source: models.md §2,
+    per part, NaN entries mean "use K_VT_V_PER_C". Source: models/README.md §2,
     3 mV/°C from memory.
     """
     k_vt = or_default(k_vt_V_per_C, K_VT_V_PER_C)
@@ -122,7 +122,7 @@ def on_resistance(vg_V, t_C, r_fix_ohm, k_ohm_V, vt25_V,
     and k_ohm_V [ohm·V] from ``fit_on_resistance``; vt25_V [V] the threshold
     the fit used (vgs_th_max_V); k_vt_V_per_C [V/°C] and rds_tc_per_C [1/°C]
     scalar or per part, NaN entries mean the default. Sources: Sedra & Smith,
-    MOSFET triode region (the 1/(Vg - Vt) term); models.md §2 coefficients,
+    MOSFET triode region (the 1/(Vg - Vt) term); models/README.md §2 coefficients,
     from memory.
     """
     t_C = np.asarray(t_C, dtype=float)
@@ -188,7 +188,7 @@ class HeatedResistance:
 def extrapolated(vg_V, lowest_drive_V):
     """True where the drive vg_V [V] is below the lowest datasheet drive lowest_drive_V [V].
 
-    models.md §1: such a figure is still given, with the note ``extrapolated``.
+    models/README.md §1: such a figure is still given, with the note ``extrapolated``.
     False where either is NaN.
     """
     return np.asarray(vg_V, dtype=float) < np.asarray(lowest_drive_V, dtype=float)

@@ -1,4 +1,4 @@
-"""Unit price at the build quantity from quantity price breaks (models.md §7)."""
+"""Unit price at the build quantity from quantity price breaks (models/README.md §7)."""
 
 import numpy as np
 
@@ -10,7 +10,7 @@ def unit_price_at(break_qty, prices, quantity):
     prices [currency per part]: shape (n, m), NaN where a part has no price at
     that break. quantity [parts]: scalar or (n,).
 
-    Rule (models.md §7, the usual reading of a break table): the price of the
+    Rule (models/README.md §7, the usual reading of a break table): the price of the
     largest break ``N <= quantity`` among the breaks this part is priced at.
     Below every priced break: the lowest priced break's price, with
     ``below_first_break`` True. No price at all, or NaN quantity: NaN, False.

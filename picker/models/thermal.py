@@ -1,4 +1,4 @@
-"""Self-heating: junction temperature of a conducting part (models.md §3)."""
+"""Self-heating: junction temperature of a conducting part (models/README.md §3)."""
 
 import numpy as np
 
@@ -10,7 +10,7 @@ def solve_junction_temperature(ta_C, current_A, rth_C_per_W, resistance_at,
     """Solve ``Tj = Ta + I^2 R(Tj) theta_JA`` per part by fixed-point iteration.
 
     Basis: junction-to-ambient thermal resistance as JEDEC JESD51 defines it,
-    ``Tj = Ta + P theta_JA``, with ``P = I^2 R(Tj)`` (models.md §3).
+    ``Tj = Ta + P theta_JA``, with ``P = I^2 R(Tj)`` (models/README.md §3).
 
     ta_C [°C] ambient, current_A [A] on-state current, rth_C_per_W [°C/W]
     theta_JA: scalars or shape (n,). resistance_at(tj_C) -> rds_ohm [ohm] for

@@ -1,7 +1,7 @@
 """Cost-down review of a BOM: which transistor lines could be cheaper at the
 build volume, without giving anything up.
 
-For each transistor line found in the catalogue (`picker.bom`), a mask over
+For each transistor line found in the catalogue (`picker.review.bom`), a mask over
 every catalogue part of the same kind says which parts may replace it:
 
 - without a requirement file, the **drop-in rule** (`KindParts.drop_in`): same
@@ -11,7 +11,7 @@ every catalogue part of the same kind says which parts may replace it:
   (`engine.evaluate_role`), in an accepted package.
 
 The cheapest part of the mask at the line's quantity (volume x qty per board,
-models.md §7) is proposed when it is cheaper than the incumbent. Then lines of
+models/README.md §7) is proposed when it is cheaper than the incumbent. Then lines of
 one kind that one part could all serve are consolidated where the combined
 quantity's price break pays (`consolidate`). Prices are the catalogue's at
 the build quantity, for the incumbent and the proposal alike; the BOM's own
@@ -29,9 +29,9 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from picker import columns as cols
-from picker.bom import CONFIRM_AT, TAKE_AT, Bom, BomLine, Change, Match, PartIndex
-from picker.catalog import Problem, normalise_part, points, values
+from picker.catalog import columns as cols
+from picker.review.bom import CONFIRM_AT, TAKE_AT, Bom, BomLine, Change, Match, PartIndex
+from picker.catalog.load import Problem, normalise_part, points, values
 from picker.errors import UsageError
 from picker.models import bipolar, leakage, mosfet, pricing
 
@@ -89,7 +89,7 @@ class KindParts:
     differ for the point families: a candidate is compared at the incumbent's
     conditions, by its own datasheet value where it has a point there, else:
 
-    - Rds(on): its fitted curve ``R = R_fix + K / (Vg - Vt)`` (models.md §1,
+    - Rds(on): its fitted curve ``R = R_fix + K / (Vg - Vt)`` (models/README.md §1,
       `mosfet.fit_on_resistance`, Vt = vgs_th_max_V) at the incumbent's drive,
       compared with the incumbent's *datasheet* value at that drive (a
       guarantee is compared with a guarantee or the model's estimate of one,
@@ -99,7 +99,7 @@ class KindParts:
       points; a one-point curve (all channel, R_fix = 0) overstates the fall
       with drive, so there the point's own value is used, a bound that holds
       because R only falls as the drive rises.
-    - hFE (log-log) and Vce(sat) (linear), models.md §6: interpolated only
+    - hFE (log-log) and Vce(sat) (linear), models/README.md §6: interpolated only
       between the candidate's own points; outside them it lacks the data
       (gain falls at both ends of the current range, so the end value would
       flatter it).
@@ -179,7 +179,7 @@ class KindParts:
         self._allowed_cache: dict[tuple, np.ndarray] = {}
 
     def price_at(self, quantity: float) -> np.ndarray:
-        """Unit price of every part at `quantity` bought (models.md §7), cached."""
+        """Unit price of every part at `quantity` bought (models/README.md §7), cached."""
         if quantity not in self._price_cache:
             self._price_cache[quantity] = pricing.unit_price_at(self.breaks, self.prices, quantity)[0]
         return self._price_cache[quantity]
@@ -223,7 +223,7 @@ class KindParts:
 
     def _hot_ok(self, incumbent: int, rows: np.ndarray) -> np.ndarray:
         """Where the incumbent gives a second leakage point (I_hot at T_hot), a
-        candidate needs one too, and its two-point exponential (models.md §4) at
+        candidate needs one too, and its two-point exponential (models/README.md §4) at
         T_hot must not exceed I_hot."""
         _, _, i25, hot, hot_c = self.hot
         if not (np.isfinite(hot[incumbent]) and np.isfinite(hot_c[incumbent])):
@@ -256,7 +256,7 @@ def drop_ins(catalog_df: pd.DataFrame, part: str, options: Options = Options()) 
     `part`, `package`, `status`, `qualifies` and `why` (the first reason it
     does not, '' when it does). CatalogError when `part` is not in the
     catalogue (case, spaces and punctuation ignored)."""
-    from picker.catalog import closest_parts
+    from picker.catalog.load import closest_parts
     from picker.errors import CatalogError
 
     df = catalog_df if catalog_df.index.is_unique else catalog_df.reset_index(drop=True)
@@ -509,8 +509,8 @@ def _roles(req, df, results, kind_parts, local, findings, warnings, bom) -> dict
     them), 'uncovered': refs of the line no role names, 'wrong_kind': set
     where the incumbent is not of a role's kind}. Findings and warnings are
     appended as found."""
-    from picker.engine import evaluate_role
-    from picker.explain import reasons
+    from picker.engine.evaluate import evaluate_role
+    from picker.engine.reasons import reasons
 
     line_of_ref = {}
     for r in results:

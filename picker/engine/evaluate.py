@@ -1,8 +1,8 @@
 """The engine: every catalogue part of a role's kind, evaluated at the corners.
 
 For a role it takes the catalogue rows of the right kind, runs the models of
-`picker.models` over all of them at once (models.md §5-§7), decides each check
-(`pass`, `fail`, `unknown`), ranks the candidates (models.md §8) and totals the
+`picker.models` over all of them at once (models/README.md §5-§7), decides each check
+(`pass`, `fail`, `unknown`), ranks the candidates (models/README.md §8) and totals the
 design (§9). The result is a DataFrame per role in rank order; the JSON of the
 interface specification, the reasons a part fails and the notes are built from
 it on demand, for the rows that are shown.
@@ -19,16 +19,16 @@ from functools import cached_property
 import numpy as np
 import pandas as pd
 
-from picker import parallel
-from picker.catalog import points as _catalog_points
-from picker.catalog import values as _catalog_values
+from picker.engine import parallel
+from picker.catalog.load import points as _catalog_points
+from picker.catalog.load import values as _catalog_values
 from picker.models import bipolar, leakage, mosfet, pricing, thermal
 from picker.models._defaults import or_default
-from picker.requirements import Requirements, Role
+from picker.design.requirements import Requirements, Role
 
 PASS, FAIL, UNKNOWN = 1, 0, -1
 OUTCOME = {PASS: "pass", FAIL: "fail", UNKNOWN: "unknown"}
-GATE_HEADROOM_V = 0.1  # models.md §6: vgs must exceed Vt(Ta) by this much
+GATE_HEADROOM_V = 0.1  # models/README.md §6: vgs must exceed Vt(Ta) by this much
 HOURS_PER_YEAR = 8766.0  # 365.25 days
 BLOCK_ROWS = 65_536  # parts evaluated together (see `in_blocks`)
 
@@ -89,7 +89,7 @@ class PartData:
         return self._get(("values", name), lambda: self._pick(_catalog_values(self.df, name)))
 
     def points(self, prefix: str) -> tuple[np.ndarray, np.ndarray]:
-        """A point family as `picker.catalog.points` gives it, but never zero
+        """A point family as `picker.catalog.load.points` gives it, but never zero
         columns wide: a catalogue without any such column (say, bipolar parts
         only, or no prices) gets one all-blank column, so the models see "no
         point" (unknown) instead of an empty array they cannot reduce."""
@@ -124,7 +124,7 @@ class PartData:
                 self.values(name)
 
     def fit(self) -> mosfet.OnResistanceFit:
-        """The on-resistance fit (models.md §1) of these parts."""
+        """The on-resistance fit (models/README.md §1) of these parts."""
         def make():
             drives_V, rds_mohm = self.points("rds_on_mohm")
             return mosfet.fit_on_resistance(drives_V, rds_mohm / 1000.0, self.values("vgs_th_max_V"))
@@ -195,7 +195,7 @@ class RoleResult:
 
     @cached_property
     def table(self) -> pd.DataFrame:
-        """Every candidate, in rank order (models.md §8)."""
+        """Every candidate, in rank order (models/README.md §8)."""
         return self.frame.take(self.order)
 
     def _ranked(self, rows: np.ndarray) -> pd.DataFrame:
@@ -204,7 +204,7 @@ class RoleResult:
 
     @property
     def choice(self) -> pd.Series | None:
-        """The first feasible candidate with a price (models.md §8), or None."""
+        """The first feasible candidate with a price (models/README.md §8), or None."""
         ok = (self.frame["feasible"].to_numpy()[self.order]
               & np.isfinite(self.frame["cost"].to_numpy(dtype=float)[self.order]))
         if not ok.any():
@@ -311,7 +311,7 @@ def _role_columns(parts: PartData, role: Role, req: Requirements, checks) -> dic
 def in_blocks(parts: PartData, columns) -> dict:
     """``columns(parts)`` (a dict of per-part arrays, or of scalars that are
     the same for every part) computed BLOCK_ROWS parts at a time, on the
-    CPU's cores (`picker.parallel`), and joined.
+    CPU's cores (`picker.engine.parallel`), and joined.
 
     The result is the same as one call over all parts; the time is not: numpy
     makes a fresh array for every step of a formula, and on 10^6 parts each
@@ -363,7 +363,7 @@ def catalogue_columns(parts: PartData, role: Role) -> dict:
 
 
 def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
-    """models.md §6, high-side-pmos and low-side-nmos, at both corners (§5):
+    """models/README.md §6, high-side-pmos and low-side-nmos, at both corners (§5):
     one row per part (index of `parts`, a DataFrame or PartData), no price,
     no rank."""
     parts = _data(parts)
@@ -432,7 +432,7 @@ def pass_switch_columns(parts, role: Role, req: Requirements, *,
     out["tj_limit_C"] = tj_limit_C
     with np.errstate(invalid="ignore"):
         tj_ok = settled & (tj_C <= tj_limit_C)
-    # Runaway fails whatever the limit (models.md §3: "No convergence ... fails"),
+    # Runaway fails whatever the limit (models/README.md §3: "No convergence ... fails"),
     # so it is decided even where neither limit is known.
     known = has_rth & on & np.isfinite(fit.k_ohm_V) & (np.isfinite(tj_limit_C) | ~settled)
     out["check_tj"] = _check(tj_ok, known)
@@ -448,7 +448,7 @@ def pass_switch_columns(parts, role: Role, req: Requirements, *,
         out["check_off_current"] = _limit_check(out["off_current_A"],
                                                 role.max_off_current_A)
     derate_v, derate_i = req.margins.derate_v, req.margins.derate_i
-    # The gate swings the whole rail when it turns on (models.md §6); a gate
+    # The gate swings the whole rail when it turns on (models/README.md §6); a gate
     # drive above the rail swings that much instead.
     gate_swing_V = max(req.supply.max_V, role.gate_drive_V or 0.0)
     out["gate_swing_V"] = gate_swing_V
@@ -471,7 +471,7 @@ def _tj_limit(tj_max_C: np.ndarray, role_max_C: float | None, margin_C: float) -
 
 
 def saturated_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
-    """models.md §6, npn-switch and pnp-switch: saturation at the cold corner;
+    """models/README.md §6, npn-switch and pnp-switch: saturation at the cold corner;
     one row per part (index of `parts`, a DataFrame or PartData), no price,
     no rank."""
     parts = _data(parts)
@@ -530,7 +530,7 @@ def saturated_switch_columns(parts, role: Role, req: Requirements, *,
 
 
 def _price(out: dict, parts: PartData, role: Role, req: Requirements) -> None:
-    """models.md §7: unit price at the quantity bought, cost per board."""
+    """models/README.md §7: unit price at the quantity bought, cost per board."""
     breaks, prices = points(parts, "price")
     quantity = req.volume * role.parts_per_board
     unit, below = pricing.unit_price_at(breaks, prices, quantity)
@@ -542,7 +542,7 @@ def _price(out: dict, parts: PartData, role: Role, req: Requirements) -> None:
 
 
 def rank(out: pd.DataFrame, role: Role) -> np.ndarray:
-    """models.md §8: feasible by cost, then preferred first, then drop (or
+    """models/README.md §8: feasible by cost, then preferred first, then drop (or
     Vce(sat)); then feasible parts with no price (preferred, then drop); then
     the rest, fewest failed checks first. Remaining ties keep catalogue
     order. Adds a `rank` column to `out` (1 = best) and returns the row
@@ -569,7 +569,7 @@ def rank(out: pd.DataFrame, role: Role) -> np.ndarray:
 
 
 def design_totals(req: Requirements, roles: list[RoleResult]) -> DesignResult:
-    """models.md §9: cost per board, total off-state current, drain per year."""
+    """models/README.md §9: cost per board, total off-state current, drain per year."""
     result = DesignResult(req, roles)
     cost, off = 0.0, 0.0
     for r in roles:
@@ -608,7 +608,7 @@ def candidate_json(row: pd.Series, result: RoleResult) -> dict:
 
 def design_json(design: DesignResult, *, limit: int | None = None) -> dict:
     """The whole answer in the JSON of the interface specification."""
-    from picker.render import clean
+    from picker.cells import clean
 
     roles = []
     for r in design.roles:

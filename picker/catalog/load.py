@@ -20,11 +20,11 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from picker import columns as cols
+from picker.catalog import columns as cols
 from picker.errors import CatalogError, QuantityError, one_line
-from picker.quantities import parse_quantity
-from picker.render import restore
-from picker.tabular import read_bytes, read_table
+from picker.catalog.quantities import parse_quantity
+from picker.cells import restore
+from picker.catalog.tabular import read_bytes, read_table
 
 UNKNOWN_MARKERS = {"", "-", "–", "—", "?", "n/a", "na", "nan", "none", "unknown", "tbd"}
 KNOWN_HEADERS = set(cols._BY_LOWER) | {"rds_on_mohm", "price"}  # for separator detection
@@ -106,7 +106,7 @@ def load_catalog(path: str | os.PathLike | None = None, *, source: str | None = 
                  strict: bool = False, data: bytes | None = None, cache: bool = True) -> Catalog:
     """Load and check a catalogue. Raises CatalogError when the file cannot be
     read at all, or (strict) when any row has an error. A large catalogue read
-    from disk is parsed once and then served from the cache (picker.cache)
+    from disk is parsed once and then served from the cache (picker.catalog.cache)
     while its bytes stay the same; `cache=False` always parses."""
     if source is None:
         path, source = resolve_catalog(path)
@@ -121,7 +121,7 @@ def load_catalog(path: str | os.PathLike | None = None, *, source: str | None = 
     fingerprint = hashlib.sha256(data).hexdigest()
     catalog = None
     if cache and stat is not None:
-        from picker import cache as store
+        from picker.catalog import cache as store
 
         hit = store.load(path, stat.st_size, stat.st_mtime_ns, fingerprint)
         if hit is not None:
@@ -136,7 +136,7 @@ def load_catalog(path: str | os.PathLike | None = None, *, source: str | None = 
         catalog.source = source
         catalog.fingerprint = fingerprint
         if cache and stat is not None:
-            from picker import cache as store
+            from picker.catalog import cache as store
 
             meta = {"sha256": fingerprint, "rows_read": catalog.rows_read,
                     "encoding": catalog.encoding, "delimiter": catalog.delimiter,
@@ -171,7 +171,7 @@ def _apostrophe_cells(data: bytes) -> bool:
 def _convert(table, apostrophes: bool = True) -> Catalog:
     """`apostrophes`: the file has a "'" somewhere, so text cells may be ones
     picker's CSV output made inert for spreadsheets ("'-5 V"): they are read
-    back as they were (`render.restore`), so a catalogue written by
+    back as they were (`cells.restore`), so a catalogue written by
     `catalog show --format csv` loads to the same table."""
     path = table.path
     problems: list[Problem] = []

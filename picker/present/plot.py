@@ -11,8 +11,8 @@ imported only there).
   with the role's limit drawn. Every point is the engine's own figure at that
   supply (`headroom.at_supply`, all points of all parts in one call).
 - `fit_chart`: a MOSFET's fitted on-resistance against gate drive at 25 °C
-  (models.md §1) with the datasheet points marked; a bipolar part's minimum
-  gain against collector current (models.md §6) with its points.
+  (models/README.md §1) with the datasheet points marked; a bipolar part's minimum
+  gain against collector current (models/README.md §6) with its points.
 """
 
 from __future__ import annotations
@@ -23,9 +23,9 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from picker import headroom
-from picker.quantities import format_quantity
-from picker.requirements import Requirements, Role
+from picker.engine import headroom
+from picker.catalog.quantities import format_quantity
+from picker.design.requirements import Requirements, Role
 
 SUPPLY_POINTS = 161
 FIT_POINTS = 200
@@ -153,8 +153,8 @@ def fit_chart(parts: pd.DataFrame, role: Role, req: Requirements,
 
 
 def _rds_chart(parts, role, req, points) -> Chart:
-    from picker.catalog import values
-    from picker.engine import points as point_family
+    from picker.catalog.load import values
+    from picker.engine.evaluate import points as point_family
     from picker.models import mosfet
 
     names = parts["part"].astype(str).tolist()
@@ -199,12 +199,12 @@ def _rds_chart(parts, role, req, points) -> Chart:
                   "Rds(on) (mΩ)", series, vlines=vlines, y_scale=1000.0,
                   y_top=1.6 * float(known.max()) if known.size else None)
     chart.notes.append("model: R = R_fix + K/(Vg − Vgs(th) max), least squares through the "
-                       "points (models.md §1); the operating corners add the temperature terms")
+                       "points (models/README.md §1); the operating corners add the temperature terms")
     return chart
 
 
 def _gain_chart(parts, role, req, points) -> Chart:
-    from picker.engine import points as point_family
+    from picker.engine.evaluate import points as point_family
     from picker.models import bipolar
 
     names = parts["part"].astype(str).tolist()
@@ -229,13 +229,13 @@ def _gain_chart(parts, role, req, points) -> Chart:
                   "collector current (mA)", "hFE min (ratio)", series,
                   vlines=[(ic_mA, f"Ic {ic_mA:g} mA")], x_scale=1000.0, log_x=True)
     chart.notes.append("below the lowest point the lowest point's gain is used, above the "
-                       "highest the highest's (models.md §6)")
+                       "highest the highest's (models/README.md §6)")
     return chart
 
 
 def to_json(charts: list[Chart]) -> list[dict]:
     """The charts' data for scripts: plotted units, NaN as null."""
-    from picker.render import clean
+    from picker.cells import clean
 
     return clean([{
         "chart": c.key, "title": c.title, "x_label": c.x_label, "y_label": c.y_label,

@@ -13,14 +13,10 @@ import math
 from dataclasses import dataclass, field
 from typing import Any, Iterable
 
-from picker.quantities import format_quantity
+from picker.catalog.quantities import format_quantity
+from picker.cells import clean, neutralise
 
 FORMATS = ("table", "csv", "json")
-
-# Characters a spreadsheet treats as the start of a formula (OWASP, "CSV
-# Injection"): such cells are written with a leading apostrophe.
-FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
-
 
 @dataclass(frozen=True)
 class Column:
@@ -51,36 +47,6 @@ class Report:
     data: Any = None  # the JSON document; default: the rows of every section
     csv_columns: list[Column] | None = None  # CSV: these columns over csv_rows
     csv_rows: list[dict] | None = None
-
-
-def clean(value: Any) -> Any:
-    """JSON-safe: NaN and infinities become null, numpy scalars plain floats."""
-    if isinstance(value, dict):
-        return {k: clean(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [clean(v) for v in value]
-    if hasattr(value, "item") and not isinstance(value, (str, bytes)):
-        value = value.item()
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    return value
-
-
-def neutralise(text: str) -> str:
-    """A text cell a spreadsheet would run as a formula, made inert with a
-    leading apostrophe. A cell that already starts with apostrophes before
-    such a character gets one more, so `restore` gives back every cell
-    exactly: restore(neutralise(t)) == t for any text."""
-    return "'" + text if text.lstrip("'").startswith(FORMULA_START) else text
-
-
-def restore(text: str) -> str:
-    """The inverse of `neutralise`, for reading back text picker wrote (the
-    catalogue loader applies it to text cells): one leading apostrophe
-    before a formula character, or before more apostrophes and then one, is
-    dropped. Other text is returned as it is."""
-    return text[1:] if text.startswith("'") and text.lstrip("'").startswith(FORMULA_START) \
-        else text
 
 
 def csv_cell(value: Any, numeric: bool) -> str:

@@ -7,8 +7,8 @@ voltage at which the part still passes the role's supply-dependent checks, at
 each ambient corner:
 
 - pass switches (high-side-pmos, low-side-nmos): `gate_drive`, `drop`, and
-  `tj` where it can be decided (models.md §6, §3);
-- saturated switches (npn-switch, pnp-switch): `saturation` (models.md §6).
+  `tj` where it can be decided (models/README.md §6, §3);
+- saturated switches (npn-switch, pnp-switch): `saturation` (models/README.md §6).
 
 The figure is the engine's own answer, not a second model: each trial runs
 `engine.pass_switch` (or `engine.saturated_switch`) with the supply minimum
@@ -28,7 +28,7 @@ are so many that the trials would not fit in `TRIAL_ROWS`). The figure
 reported is the upper end of the final bracket: a voltage at which the engine
 says the part works, at most `tol_V` above one at which it does not. The
 search needs only that working is monotone in the supply (more supply, more
-drive, never less); it holds in the models of models.md, as the on-resistance
+drive, never less); it holds in the models of models/README.md, as the on-resistance
 falls and the base current rises with the drive at every temperature.
 
 What the figure means when the drive does not come from the cell: with a
@@ -61,9 +61,9 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from picker import engine
-from picker.engine import FAIL, PASS, UNKNOWN
-from picker.requirements import Ambient, Requirements, Role
+from picker.engine import evaluate as engine
+from picker.engine.evaluate import FAIL, PASS, UNKNOWN
+from picker.design.requirements import Ambient, Requirements, Role
 
 TOL_V = 1e-5  # the search stops when the bracket is narrower than this (10 µV)
 MAX_SECTIONS = 32  # each pass tries 31 voltages per part inside its bracket ...
@@ -271,13 +271,13 @@ def shown_V(value: float) -> float:
 
 
 def format_V(value: float) -> str:
-    from picker.quantities import format_quantity
+    from picker.catalog.quantities import format_quantity
 
     return format_quantity(shown_V(value), "V", 4)
 
 
 def _requirement(role: Role) -> str:
-    from picker.quantities import format_quantity as q
+    from picker.catalog.quantities import format_quantity as q
 
     if role.is_pass_switch:
         return f"{q(role.max_drop_V, 'V')}"

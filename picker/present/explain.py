@@ -6,15 +6,14 @@ candidates, not the catalogue.
 
 from __future__ import annotations
 
-import math
-
 import pandas as pd
 
-from picker.engine import FAIL, PASS, DesignResult, RoleResult, notes
-from picker.quantities import format_quantity as q
-from picker.render import Column, Report, Section
+from picker.engine.evaluate import DesignResult, RoleResult, notes
+from picker.engine.reasons import _v, reasons
+from picker.catalog.quantities import format_quantity as q
+from picker.present.render import Column, Report, Section
 
-# Lithium-ion self-discharge is a few percent a month (from memory, models.md §9).
+# Lithium-ion self-discharge is a few percent a month (from memory, models/README.md §9).
 SELF_DISCHARGE_PCT_PER_MONTH = (2.0, 3.0)
 
 CAUTIONS = [
@@ -28,86 +27,6 @@ CAUTIONS = [
     "bench at the temperature corners, and follow local codes and licensed engineering "
     "practice for anything safety-related.",
 ]
-
-
-def _v(x: float, unit: str, digits: int = 3) -> str:
-    return q(float(x), unit, digits) if x is not None and math.isfinite(float(x)) else "?"
-
-
-def reasons(row: pd.Series, result: RoleResult, req) -> list[str]:
-    """Why this candidate is not feasible: each failed check with by how much,
-    then each check that could not be decided and what data it lacks."""
-    role = result.role
-    out: list[str] = []
-    for check in result.checks:
-        code = int(row[f"check_{check}"])
-        if code == PASS:
-            continue
-        text = (_fail_text if code == FAIL else _unknown_text)(check, row, role, req)
-        out.append(text)
-    return out
-
-
-def _fail_text(check: str, row: pd.Series, role, req) -> str:
-    dv, di = req.margins.derate_v, req.margins.derate_i
-    if check == "gate_drive":
-        need = row["vt_cold_V"] + 0.1
-        return (f"gate drive {_v(row['vgs_V'], 'V')} < {_v(need, 'V')} needed at the cold corner "
-                f"(Vth max {_v(row['vt_cold_V'], 'V')} at {req.ambient.min_C:g} °C + 0.1 V)")
-    if check == "drop":
-        return (f"drop {_v(row['drop_V'], 'V')} > {_v(role.max_drop_V, 'V')} "
-                f"at the {row['corner']} corner")
-    if check == "tj":
-        if not row["settled"]:
-            return "thermal runaway: the junction temperature does not settle"
-        return f"Tj {row['tj_C']:.0f} °C > {row['tj_limit_C']:.0f} °C limit"
-    if check == "off_current":
-        return (f"off current {_v(row['off_current_A'], 'A')} > "
-                f"{_v(role.max_off_current_A, 'A')} at {req.ambient.max_C:g} °C")
-    if check == "vds_rating":
-        return _derated("Vds", row["vds_max_V"], dv, "V", f"{req.supply.max_V:g} V supply")
-    if check == "vgs_rating":
-        return _derated("Vgs", row["vgs_max_V"], dv, "V", f"{row['gate_swing_V']:g} V gate swing")
-    if check == "id_rating":
-        return _derated("Id", row["id_max_A"], di, "A", f"{_v(role.load_A, 'A')} load")
-    if check == "saturation":
-        return (f"Ib·hFE = {_v(row['ib_A'], 'A')} × {row['hfe']:.0f} = "
-                f"{_v(row['ib_A'] * row['hfe'], 'A')} < {role.overdrive:g} × "
-                f"{_v(role.collector_current_A, 'A')} at the cold corner")
-    if check == "vce_sat":
-        return f"Vce(sat) {_v(row['vce_sat_V'], 'V')} > {_v(role.max_vce_sat_V, 'V')}"
-    if check == "vceo_rating":
-        return _derated("Vceo", row["vceo_max_V"], dv, "V", f"{req.supply.max_V:g} V supply")
-    if check == "ic_rating":
-        return (f"Ic rating {_v(row['ic_max_A'], 'A')} × {di:g} < "
-                f"{_v(role.collector_current_A, 'A')}")
-    return f"{check} fails"
-
-
-def _derated(name: str, rating: float, factor: float, unit: str, limit: str) -> str:
-    """'Vds rating 20 V × 0.8 = 16 V < 24 V supply'."""
-    return f"{name} rating {rating:g} {unit} × {factor:g} = {rating * factor:.3g} {unit} < {limit}"
-
-
-_NEEDS = {
-    "gate_drive": "vgs_th_max_V",
-    "drop": "on-resistance points and vgs_th_max_V",
-    "tj": "rth_ja_C/W, and tj_max_C or the role's max_tj",
-    "off_current": "idss_uA / icbo_nA",
-    "vds_rating": "vds_max_V", "vgs_rating": "vgs_max_V", "id_rating": "id_max_A",
-    "saturation": "hfe_min points",
-    "vce_sat": "vce_sat_mV points",
-    "vceo_rating": "vceo_max_V", "ic_rating": "ic_max_A",
-}
-
-
-def _unknown_text(check: str, row: pd.Series, role, req) -> str:
-    if check in ("drop", "tj") and int(row.get("check_gate_drive", PASS)) == FAIL:
-        return f"{check} not evaluated: the gate is not driven on"
-    if check == "vce_sat" and row.get("not_guaranteed", False):
-        return (f"Vce(sat) not guaranteed: forced gain {row['forced_gain']:.0f} > 10, "
-                "the datasheet condition")
-    return f"{check} unknown: no {_NEEDS.get(check, 'data')}"
 
 
 # -- the choose report ---------------------------------------------------------
@@ -162,7 +81,7 @@ def _lowest_supply(table: pd.DataFrame, r: RoleResult, req) -> pd.DataFrame | No
     """headroom.lowest_supply for the rows shown (None without the catalogue rows)."""
     if r.catalog_df is None or table.empty:
         return None
-    from picker import headroom
+    from picker.engine import headroom
 
     return headroom.lowest_supply(r.catalog_df.loc[table.index], r.role, req)
 
@@ -172,7 +91,7 @@ def _lowest_cell(low: dict | None) -> str | None:
     (`low`: one row of `headroom.lowest_supply`, as a dict)."""
     if low is None:
         return None
-    from picker import headroom
+    from picker.engine import headroom
 
     text = headroom.short(low)
     found = low["lowest_supply_status"] == "found"
@@ -230,7 +149,7 @@ def _lowest_reason(low: pd.DataFrame | None, index, r: RoleResult, req) -> list[
     one is found (e.g. 'would meet 60 mV from 3.42 V up, at 45 °C')."""
     if low is None:
         return []
-    from picker import headroom
+    from picker.engine import headroom
 
     row = low.loc[index]
     if row["lowest_supply_status"] != "found" or row["lowest_supply_V"] <= req.supply.min_V:
@@ -265,7 +184,7 @@ def summary_lines(design: DesignResult) -> list[str]:
 
 def choose_csv(design: DesignResult, limit: int | None = None) -> tuple[list[Column], list[dict]]:
     """One row per candidate with its role, for scripts."""
-    from picker.engine import OUTCOME, PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES, SWITCH_CHECKS, SWITCH_FIGURES
+    from picker.engine.evaluate import OUTCOME, PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES, SWITCH_CHECKS, SWITCH_FIGURES
 
     figures = list(dict.fromkeys(PASS_SWITCH_FIGURES + SWITCH_FIGURES))
     checks = list(dict.fromkeys(PASS_SWITCH_CHECKS + SWITCH_CHECKS))

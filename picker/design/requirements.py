@@ -23,7 +23,7 @@ import tomllib
 from dataclasses import dataclass
 
 from picker.errors import QuantityError, RequirementError
-from picker.quantities import format_quantity, parse_quantity, parse_range
+from picker.catalog.quantities import format_quantity, parse_quantity, parse_range
 
 USES = ("high-side-pmos", "low-side-nmos", "npn-switch", "pnp-switch")
 KIND_OF_USE = {"high-side-pmos": "pmos", "low-side-nmos": "nmos", "npn-switch": "npn", "pnp-switch": "pnp"}
@@ -50,9 +50,9 @@ class Ambient:
 
 @dataclass(frozen=True)
 class Margins:
-    derate_v: float = 0.8      # common practice (models.md §6)
-    derate_i: float = 0.5      # common practice (models.md §6)
-    tj_margin_C: float = 25.0  # below the part's tj_max_C, common practice (models.md §3)
+    derate_v: float = 0.8      # common practice (models/README.md §6)
+    derate_i: float = 0.5      # common practice (models/README.md §6)
+    tj_margin_C: float = 25.0  # below the part's tj_max_C, common practice (models/README.md §3)
 
 
 @dataclass(frozen=True)

@@ -24,12 +24,12 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from picker import columns as cols
-from picker import headroom
-from picker.catalog import closest_parts, normalise_part
+from picker.catalog import columns as cols
+from picker.engine import headroom
+from picker.catalog.load import closest_parts, normalise_part
 from picker.errors import CatalogError, RequirementError
-from picker.quantities import format_quantity
-from picker.requirements import Requirements, Role
+from picker.catalog.quantities import format_quantity
+from picker.design.requirements import Requirements, Role
 
 LOW, HIGH = "low", "high"  # which way a row is better
 
@@ -178,7 +178,7 @@ def build_lineup(catalog_df: pd.DataFrame, names: list[str], req: Requirements |
                             "the parts at your operating point")
         return lineup
     check_kinds(parts, role)
-    from picker.engine import evaluate_role
+    from picker.engine.evaluate import evaluate_role
 
     result = evaluate_role(catalog_df, role, req)
     lineup.result = result
@@ -296,7 +296,7 @@ def _plain(v):
 
 
 def _check_rows(lineup: Lineup) -> list[Row]:
-    from picker.engine import OUTCOME
+    from picker.engine.evaluate import OUTCOME
 
     cand, result = lineup.candidates, lineup.result
     rows = []
@@ -312,7 +312,7 @@ def _check_rows(lineup: Lineup) -> list[Row]:
 
 
 def _notes(lineup: Lineup) -> list[str]:
-    from picker.explain import reasons
+    from picker.engine.reasons import reasons
 
     role, req = lineup.role, lineup.req
     out = []
@@ -328,9 +328,9 @@ def to_json(lineup: Lineup) -> dict:
     """The lineup for scripts: per part the engine's candidate (as `choose`
     writes it), its rank, each corner's figures, the lowest working supply and
     the datasheet values; plus which parts are best in each row."""
-    from picker.engine import candidate_json
-    from picker.explain import reasons
-    from picker.render import clean
+    from picker.engine.evaluate import candidate_json
+    from picker.engine.reasons import reasons
+    from picker.cells import clean
 
     role, req = lineup.role, lineup.req
     datasheet = [r for r in lineup.rows if r.group == "datasheet"]
@@ -376,8 +376,8 @@ def _corner_figures(role: Role) -> tuple[str, ...]:
 
 def report(lineup: Lineup):
     """The lineup as a renderer Report: table (best values bold), CSV, JSON."""
-    from picker.explain import CAUTIONS
-    from picker.render import Column, Report, Section
+    from picker.present.explain import CAUTIONS
+    from picker.present.render import Column, Report, Section
 
     names = lineup.names
     keys = [f"p{i}" for i in range(len(names))]

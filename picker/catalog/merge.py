@@ -30,13 +30,13 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from picker import columns as cols
-from picker.catalog import KNOWN_HEADERS, NO, UNKNOWN_MARKERS, YES, Catalog, Problem, load_catalog
+from picker.catalog import columns as cols
+from picker.catalog.load import KNOWN_HEADERS, NO, UNKNOWN_MARKERS, YES, Catalog, Problem, load_catalog
 from picker.errors import CatalogError, PickerError, QuantityError
-from picker.importer import (BIPOLAR_ONLY, MOSFET_ONLY, STATUS_WORDS, HeaderMatch, Target,
+from picker.catalog.importer import (BIPOLAR_ONLY, MOSFET_ONLY, STATUS_WORDS, HeaderMatch, Target,
                              _plain, cell_values, read_kind)
 from picker.safe_io import FileState, file_state, stale_temporaries, write_atomic  # noqa: F401
-from picker.tabular import TextTable, decode, read_bytes, read_table
+from picker.catalog.tabular import TextTable, decode, read_bytes, read_table
 
 
 @dataclass
@@ -176,7 +176,7 @@ def _finish(row: ImportRow, kind: str | None, maker: str | None, problem) -> Non
 def row_from_options(fields: list[tuple[str, str, str]]) -> tuple[ImportRow, list[Problem]]:
     """One row from the command line: (option, column or 'min..max', text) each,
     through the same conversion as an imported cell."""
-    from picker.importer import target_from_name
+    from picker.catalog.importer import target_from_name
 
     header, cells, matches, problems = [], [], [], []
     for i, (option, column, text) in enumerate(fields, start=1):
@@ -298,8 +298,8 @@ def _written(value, comma: bool) -> str:
     """A cell as written into the catalogue file: numbers as `_cell` writes
     them; text made inert for spreadsheets (a leading apostrophe before '-',
     '=', '+', '@'), which the catalogue loader drops again on reading, so the
-    value reads back exactly (`render.neutralise` / `render.restore`)."""
-    from picker.render import neutralise
+    value reads back exactly (`cells.neutralise` / `cells.restore`)."""
+    from picker.cells import neutralise
 
     return neutralise(value) if isinstance(value, str) else _cell(value, comma)
 

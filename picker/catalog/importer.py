@@ -10,7 +10,7 @@ A mapping file (TOML, `load_mapping` / `mapping_toml`) fixes or overrides it.
 `cell_values` reads one cell: the cell's unit, else the header's; a
 "min ~ max" range split; footnote marks, currency and thousands separators
 stripped; what still does not parse raises, never a guess. The rows, the
-merge with the catalogue and the safe write are in `picker.importer_merge`. Nothing here prints or imports the CLI framework.
+merge with the catalogue and the safe write are in `picker.catalog.merge`. Nothing here prints or imports the CLI framework.
 """
 
 from __future__ import annotations
@@ -20,9 +20,9 @@ import tomllib
 from dataclasses import dataclass
 from decimal import Decimal
 
-from picker import columns as cols
+from picker.catalog import columns as cols
 from picker.errors import MappingError, QuantityError, one_line
-from picker.quantities import PREFIX_EXP, parse_quantity, unit_label
+from picker.catalog.quantities import PREFIX_EXP, parse_quantity, unit_label
 
 MAP_AT = 80.0  # a header scoring below this is left unmapped and listed
 MAX_MAPPING_BYTES = 1_000_000  # a mapping file's bound, as a requirement file's
@@ -495,7 +495,7 @@ def _closest(name: str) -> str:
 def load_mapping(path: str) -> dict[str, Target | None]:
     """Read a mapping TOML: a [columns] table of raw header = column (or
     {column = ..., unit = ...}, or "" to leave the header out)."""
-    from picker.tabular import read_bytes
+    from picker.catalog.tabular import read_bytes
 
     data = read_bytes(path, MappingError, "mapping", limit=MAX_MAPPING_BYTES)
     try:

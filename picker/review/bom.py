@@ -22,9 +22,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from picker.catalog import Problem, normalise_part
+from picker.catalog.load import Problem, normalise_part
 from picker.errors import BomError, UsageError
-from picker.tabular import decode, read_bytes, read_table
+from picker.catalog.tabular import decode, read_bytes, read_table
 
 # -- the columns a BOM may have ------------------------------------------------------
 
@@ -65,7 +65,7 @@ PACKAGING_SUFFIXES = ("tr", "reel", "rl", "r7", "r13", "ct", "cut", "bulk", "tap
                       "nopb")
 MAX_RANGE = 10_000  # refs in one range such as Q1-Q10000; a longer one is kept as written
 MAX_REFS = 1_000_000  # refs in the whole BOM, ranges expanded: beyond it, an error
-MAX_QTY = 100_000  # parts per board on one line (as picker.requirements.MAX_QTY)
+MAX_QTY = 100_000  # parts per board on one line (as picker.design.requirements.MAX_QTY)
 
 
 def _header_key(text: str) -> str:
@@ -562,7 +562,7 @@ def revised_bom(bom: Bom, changes: dict[int, Change], *, note_for: dict[int, str
     kept: the records are split from the original text, not re-written, so
     quoting, spacing, line ends and the title lines above the header survive.
     Same delimiter and encoding as the input. The cells picker writes are made
-    inert for spreadsheets (`render.neutralise`: a leading apostrophe before
+    inert for spreadsheets (`cells.neutralise`: a leading apostrophe before
     '=', '+', '-', '@', a tab or a CR); the user's own cells are the user's
     data and stay byte for byte as they were, even one a spreadsheet would run."""
     text, _ = decode(bom.data, bom.path, BomError)
@@ -615,7 +615,7 @@ def _expected_cells(bom: Bom, changes: dict[int, Change], note_for: dict[int, st
 
 
 def _neutral(value: str) -> str:
-    from picker.render import neutralise
+    from picker.cells import neutralise
 
     return neutralise(str(value)).strip()
 
@@ -694,7 +694,7 @@ def _unquote(raw: str) -> str:
 
 def _cell(value: str, delimiter: str) -> str:
     """A new cell: made inert for spreadsheets, quoted where the text needs it."""
-    from picker.render import neutralise
+    from picker.cells import neutralise
 
     return _quoted(neutralise(str(value)), delimiter)
 

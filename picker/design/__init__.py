@@ -1,0 +1,1 @@
+"""Requirement files and command-line quick questions, as frozen dataclasses."""

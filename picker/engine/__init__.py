@@ -1,0 +1,1 @@
+"""Roles over the catalogue: figures, checks, ranking, headroom."""

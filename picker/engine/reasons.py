@@ -1,0 +1,94 @@
+"""Why a candidate is not feasible, in words: each failed check with by how
+much, each undecided check with the data it lacks. Only the rows that are
+shown (or written) are explained, so this runs over a handful of candidates,
+not the catalogue.
+"""
+
+from __future__ import annotations
+
+import math
+
+import pandas as pd
+
+from picker.catalog.quantities import format_quantity as q
+from picker.engine.evaluate import FAIL, PASS, RoleResult
+
+
+def _v(x: float, unit: str, digits: int = 3) -> str:
+    return q(float(x), unit, digits) if x is not None and math.isfinite(float(x)) else "?"
+
+
+def reasons(row: pd.Series, result: RoleResult, req) -> list[str]:
+    """Why this candidate is not feasible: each failed check with by how much,
+    then each check that could not be decided and what data it lacks."""
+    role = result.role
+    out: list[str] = []
+    for check in result.checks:
+        code = int(row[f"check_{check}"])
+        if code == PASS:
+            continue
+        text = (_fail_text if code == FAIL else _unknown_text)(check, row, role, req)
+        out.append(text)
+    return out
+
+
+def _fail_text(check: str, row: pd.Series, role, req) -> str:
+    dv, di = req.margins.derate_v, req.margins.derate_i
+    if check == "gate_drive":
+        need = row["vt_cold_V"] + 0.1
+        return (f"gate drive {_v(row['vgs_V'], 'V')} < {_v(need, 'V')} needed at the cold corner "
+                f"(Vth max {_v(row['vt_cold_V'], 'V')} at {req.ambient.min_C:g} °C + 0.1 V)")
+    if check == "drop":
+        return (f"drop {_v(row['drop_V'], 'V')} > {_v(role.max_drop_V, 'V')} "
+                f"at the {row['corner']} corner")
+    if check == "tj":
+        if not row["settled"]:
+            return "thermal runaway: the junction temperature does not settle"
+        return f"Tj {row['tj_C']:.0f} °C > {row['tj_limit_C']:.0f} °C limit"
+    if check == "off_current":
+        return (f"off current {_v(row['off_current_A'], 'A')} > "
+                f"{_v(role.max_off_current_A, 'A')} at {req.ambient.max_C:g} °C")
+    if check == "vds_rating":
+        return _derated("Vds", row["vds_max_V"], dv, "V", f"{req.supply.max_V:g} V supply")
+    if check == "vgs_rating":
+        return _derated("Vgs", row["vgs_max_V"], dv, "V", f"{row['gate_swing_V']:g} V gate swing")
+    if check == "id_rating":
+        return _derated("Id", row["id_max_A"], di, "A", f"{_v(role.load_A, 'A')} load")
+    if check == "saturation":
+        return (f"Ib·hFE = {_v(row['ib_A'], 'A')} × {row['hfe']:.0f} = "
+                f"{_v(row['ib_A'] * row['hfe'], 'A')} < {role.overdrive:g} × "
+                f"{_v(role.collector_current_A, 'A')} at the cold corner")
+    if check == "vce_sat":
+        return f"Vce(sat) {_v(row['vce_sat_V'], 'V')} > {_v(role.max_vce_sat_V, 'V')}"
+    if check == "vceo_rating":
+        return _derated("Vceo", row["vceo_max_V"], dv, "V", f"{req.supply.max_V:g} V supply")
+    if check == "ic_rating":
+        return (f"Ic rating {_v(row['ic_max_A'], 'A')} × {di:g} < "
+                f"{_v(role.collector_current_A, 'A')}")
+    return f"{check} fails"
+
+
+def _derated(name: str, rating: float, factor: float, unit: str, limit: str) -> str:
+    """'Vds rating 20 V × 0.8 = 16 V < 24 V supply'."""
+    return f"{name} rating {rating:g} {unit} × {factor:g} = {rating * factor:.3g} {unit} < {limit}"
+
+
+_NEEDS = {
+    "gate_drive": "vgs_th_max_V",
+    "drop": "on-resistance points and vgs_th_max_V",
+    "tj": "rth_ja_C/W, and tj_max_C or the role's max_tj",
+    "off_current": "idss_uA / icbo_nA",
+    "vds_rating": "vds_max_V", "vgs_rating": "vgs_max_V", "id_rating": "id_max_A",
+    "saturation": "hfe_min points",
+    "vce_sat": "vce_sat_mV points",
+    "vceo_rating": "vceo_max_V", "ic_rating": "ic_max_A",
+}
+
+
+def _unknown_text(check: str, row: pd.Series, role, req) -> str:
+    if check in ("drop", "tj") and int(row.get("check_gate_drive", PASS)) == FAIL:
+        return f"{check} not evaluated: the gate is not driven on"
+    if check == "vce_sat" and row.get("not_guaranteed", False):
+        return (f"Vce(sat) not guaranteed: forced gain {row['forced_gain']:.0f} > 10, "
+                "the datasheet condition")
+    return f"{check} unknown: no {_NEEDS.get(check, 'data')}"

@@ -1,0 +1,1 @@
+"""BOM review: reading a BOM, matching its parts, proposals, the revised BOM."""

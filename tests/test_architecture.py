@@ -1,0 +1,77 @@
+"""The package's folders are its architecture: imports run one way, downward.
+
+Levels, top to bottom (DEVELOPERS.md, "Architecture"): the CLI, then the
+presentation (words, tables, plots), the BOM review, the engine, the
+requirement files, the catalogue, the models; `errors`, `safe_io` and `cells`
+are used by all and use nothing of picker's. A module may import its own
+level or any level below it, never one above. The graph is read from the
+source with the standard library's `ast`, so a late import inside a function
+counts as much as one at the top.
+"""
+
+from __future__ import annotations
+
+import ast
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent / "picker"
+
+LEVELS = ["cli", "api", "present", "review", "engine", "design", "catalog", "models", "base"]
+BASE = {"errors", "safe_io", "cells", "data"}
+
+
+def _level(module: str) -> str:
+    """'picker.engine.evaluate' -> 'engine'; 'picker' (the package itself) -> 'api'."""
+    parts = module.split(".")
+    if len(parts) == 1:
+        return "api"
+    head = parts[1]
+    if head in BASE:
+        return "base"
+    if head in ("__init__", "__main__"):
+        return "api" if head == "__init__" else "cli"
+    return head if head in LEVELS else "api"
+
+
+def _module_of(path: Path) -> str:
+    rel = path.relative_to(ROOT.parent).with_suffix("")
+    parts = list(rel.parts)
+    if parts[-1] == "__init__" and len(parts) > 1:
+        parts = parts[:-1]
+    return ".".join(parts)
+
+
+def _imports(path: Path) -> list[tuple[int, str]]:
+    found = []
+    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+        if isinstance(node, ast.ImportFrom) and node.module and node.level == 0:
+            if node.module == "picker":
+                found += [(node.lineno, f"picker.{a.name}") for a in node.names]
+            elif node.module.startswith("picker."):
+                found.append((node.lineno, node.module))
+        elif isinstance(node, ast.Import):
+            found += [(node.lineno, a.name) for a in node.names if a.name.startswith("picker")]
+    return found
+
+
+def test_every_module_belongs_to_a_level():
+    unknown = [str(p.relative_to(ROOT)) for p in ROOT.rglob("*.py")
+               if _level(_module_of(p)) not in LEVELS]
+    assert unknown == []
+
+
+def test_imports_run_downward_only():
+    upward = []
+    for path in sorted(ROOT.rglob("*.py")):
+        mine = LEVELS.index(_level(_module_of(path)))
+        for line, target in _imports(path):
+            theirs = LEVELS.index(_level(target))
+            if theirs < mine:
+                upward.append(f"{path.relative_to(ROOT.parent)}:{line} imports {target}")
+    assert upward == [], "imports that point upward:\n" + "\n".join(upward)
+
+
+def test_the_check_sees_an_upward_import():
+    """The reader itself: an engine module importing the renderer is caught."""
+    assert LEVELS.index(_level("picker.present.render")) < LEVELS.index(_level("picker.engine.evaluate"))
+    assert _level("picker.cells") == "base" and _level("picker.cli.common") == "cli"
