@@ -145,7 +145,8 @@ def main() -> None:
     ap.add_argument("--runs", type=int, default=3)
     args = ap.parse_args()
 
-    from picker.review.bom import read_bom, revised_bom
+    from picker.review.bom import read_bom
+    from picker.review.revised import revised_bom
     from picker.catalog.load import load_catalog
     from picker.cli.review_cmd import review_json
     from picker.review.propose import Options, review

@@ -16,8 +16,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from conftest import DEMO, EXAMPLES, ROOT
-from picker.review.bom import (Change, PartIndex, expand_refs, map_header, read_bom, revised_bom,
-                        split_records)
+from picker.review.bom import expand_refs, map_header, read_bom
+from picker.review.match import PartIndex
+from picker.review.revised import Change, revised_bom, split_records
 from picker.catalog.load import load_catalog
 from picker.errors import BomError, UsageError
 
@@ -337,7 +338,7 @@ def test_split_records_agrees_with_the_csv_module(rows, delimiter, ending):
 def test_rewrite_fallback_keeps_every_cell(tmp_path, monkeypatch):
     """Where the byte-keeping copy does not read back as expected, every cell is
     written again with the csv module: values kept, same delimiter and encoding."""
-    import picker.review.bom as bom_module
+    import picker.review.revised as bom_module
 
     monkeypatch.setattr(bom_module, "_faithful", lambda *a: False)
     bom = read_bom(DATA / "failing-incumbents.csv")

@@ -31,7 +31,8 @@ import io
 import pytest
 
 from conftest import EXAMPLES, TINY_CSV, invoke
-from picker.review.bom import Change, read_bom, revised_bom
+from picker.review.bom import read_bom
+from picker.review.revised import Change, revised_bom
 from picker.catalog.load import load_catalog
 from picker.cells import FORMULA_START, neutralise, restore
 from picker.present.render import Column, write_csv

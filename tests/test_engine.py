@@ -762,9 +762,9 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
     (no on-resistance point) or have no rth."""
     from conftest import DEMO
 
-    from picker.engine import evaluate as engine
+    from picker.models import thermal
 
-    solve = engine.thermal.solve_junction_temperature
+    solve = thermal.solve_junction_temperature
 
     def full_recompute(ta_C, current_A, rth, resistance_at, **kw):
         return solve(ta_C, current_A, rth, lambda t_C: resistance_at(t_C), **kw)
@@ -779,7 +779,7 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
                            pass_role(name="low", refs='["Q2"]', use="low-side-nmos",
                                      load="0.4 A", extra='gate_drive = "1.8 V"'))
         fast = [run_role(catalog, req, i).table for i in (0, 1)]
-        monkeypatch.setattr(engine.thermal, "solve_junction_temperature", full_recompute)
+        monkeypatch.setattr(thermal, "solve_junction_temperature", full_recompute)
         slow = [run_role(catalog, req, i).table for i in (0, 1)]
         monkeypatch.undo()
         for a, b in zip(fast, slow):

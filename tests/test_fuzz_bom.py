@@ -17,8 +17,9 @@ from hypothesis import strategies as st
 
 from conftest import DEMO, EXAMPLES, ROOT
 from fuzzing import FUZZ, csv_like, mutated, nasty_cell, ours
-from picker.review.bom import (MAX_RANGE, Change, PartIndex, _physical_lines, expand_refs, read_bom,
-                        revised_bom)
+from picker.review.bom import MAX_RANGE, _physical_lines, expand_refs, read_bom
+from picker.review.match import PartIndex
+from picker.review.revised import Change, revised_bom
 from picker.errors import BomError, PickerError
 
 PATH = "fuzz/bom.csv"
@@ -217,7 +218,7 @@ def test_regression_lone_carriage_return_in_a_rewritten_cell_is_quoted(monkeypat
     """Where the byte-keeping copy falls back to writing every cell again, a
     value holding a lone CR (a catalogue cell may) was written unquoted by the
     csv module's writer, so the revised BOM read back with an extra line."""
-    import picker.review.bom as bom_module
+    import picker.review.revised as bom_module
 
     monkeypatch.setattr(bom_module, "_faithful", lambda *a: False)
     bom = read_bom(PATH, data=b"Ref,Qty,MPN,Manufacturer\nQ1,1,ABC,Old\nQ2,1,DEF,Old\n")
@@ -242,7 +243,7 @@ def test_regression_rewritten_bom_keeps_fields_past_the_header():
 
 def test_regression_rewritten_bom_keeps_its_title_lines(monkeypatch):
     """The same fallback dropped the title lines above the header."""
-    import picker.review.bom as bom_module
+    import picker.review.revised as bom_module
 
     monkeypatch.setattr(bom_module, "_faithful", lambda *a: False)
     data = b"Bill of materials\nBoard: KL-1\n\nRef,Qty,MPN\nQ1,1,ABC\n"

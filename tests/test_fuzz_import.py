@@ -19,9 +19,10 @@ from conftest import ROOT, TINY_CSV
 from fuzzing import FUZZ, mutated, nasty_cell, ours
 from picker.catalog import columns as cols
 from picker.errors import CatalogError, MappingError, PickerError
-from picker.catalog.importer import (cell_values, clean_number, load_mapping, mapping_toml,
-                             match_header, propose_mapping, read_kind, target_from_name)
-from picker.catalog.merge import plan_merge, read_rows
+from picker.catalog.import_rows import cell_values, clean_number, read_kind, read_rows
+from picker.catalog.importer import (load_mapping, mapping_toml, match_header, propose_mapping,
+                                     target_from_name)
+from picker.catalog.merge import plan_merge
 from picker.catalog.tabular import read_table
 
 RAW = "fuzz/raw.csv"

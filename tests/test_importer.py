@@ -35,9 +35,10 @@ import pytest
 import picker.cli.import_cmd  # noqa: F401  registers the commands until picker/cli/__init__.py does
 from picker.catalog.load import bundled_catalog, load_catalog
 from picker.errors import MappingError, QuantityError, WriteRefused
-from picker.catalog.importer import (Target, cell_values, load_mapping, mapping_toml, match_header,
-                             propose_mapping, read_kind)
-from picker.catalog.merge import plan_merge, read_rows, stale_temporaries, write_plan
+from picker.catalog.import_rows import cell_values, read_kind, read_rows
+from picker.catalog.importer import Target, load_mapping, mapping_toml, match_header, propose_mapping
+from picker.catalog.merge import plan_merge, write_plan
+from picker.safe_io import stale_temporaries
 from picker.catalog.tabular import read_table
 
 ROOT = Path(__file__).resolve().parents[1]

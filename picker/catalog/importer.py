@@ -7,10 +7,9 @@ conditions ("@ VGS=-2.5V", "Ic=1mA", "Tj=85°C", "(1k)") are parsed out, so
 "RDS(on) max @ VGS=-2.5V (Ω)" becomes `rds_on_mohm@2.5V` with Ω -> mΩ ×1000.
 A mapping file (TOML, `load_mapping` / `mapping_toml`) fixes or overrides it.
 
-`cell_values` reads one cell: the cell's unit, else the header's; a
-"min ~ max" range split; footnote marks, currency and thousands separators
-stripped; what still does not parse raises, never a guess. The rows, the
-merge with the catalogue and the safe write are in `picker.catalog.merge`. Nothing here prints or imports the CLI framework.
+The cells and rows are read in `picker.catalog.import_rows`; the merge with
+the catalogue and the safe write are in `picker.catalog.merge`. Nothing here
+prints or imports the CLI framework.
 """
 
 from __future__ import annotations
@@ -352,109 +351,6 @@ def propose_mapping(headers: list[str], overrides: dict[str, Target | None] | No
 
 def _key(header: str) -> str:
     return " ".join(header.split()).casefold()
-
-
-# -- cell values ---------------------------------------------------------------
-
-_FOOTNOTE = re.compile(r"\s*(?:[*†‡§¶]+|[¹²³⁴⁵⁶⁷⁸⁹⁰]+|\(\s*\d{1,2}\s*\)|\[\s*\d{1,2}\s*\]"
-                       r"|\(\s*note\s*\d+\s*\))$", re.I)
-_CURRENCY = re.compile(r"^[$€£¥]\s*|\s*(?:[$€£¥]|usd|eur|gbp|chf)$", re.I)
-_QTY = r"[+\-−]?(?:\d+(?:[.,]\d+)*|[.,]\d+)(?:[eE][+-]?\d+)?\s*[A-Za-zΩΩµμ°%]*"
-_RANGE = re.compile(rf"^({_QTY})\s*(~|～|–|—|\.\.|…|\bto\b|-|/)\s*({_QTY})$")
-_BARE = re.compile(r"^[+\-−]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?$")
-_UNIT_TAIL = re.compile(r"[A-Za-zΩΩµμ°%]+$")
-_KIND_NOISE = re.compile(r"mosfet|channel|enhancement|transistor|mode|type|mos|fet|ch|[^a-z]")
-
-
-def clean_number(text: str, decimal_mark: str, holds: str | None) -> str:
-    """Strip footnote marks, currency, bound signs that match the column
-    ('≤ 1 µA' in a maximum column) and thousands separators."""
-    s = text.strip()
-    while True:
-        new = _FOOTNOTE.sub("", s).strip()
-        if new == s:
-            break
-        s = new
-    s = _CURRENCY.sub("", s).strip()
-    bound = re.match(r"^(≤|<=|<|max\.?|≥|>=|>|min\.?)\s*", s, re.I)
-    if bound:
-        upper = bound.group(1).lower().startswith(("≤", "<", "max"))
-        if holds != ("max" if upper else "min"):
-            raise QuantityError(f"'{text}' is a bound ({bound.group(1)}) in a column that holds "
-                                "a plain value; write the value")
-        s = s[bound.end():]
-    sep = "," if decimal_mark == "." else "."
-    if re.match(rf"^[+\-−]?[1-9]\d{{0,2}}(?:{re.escape(sep)}\d{{3}})+(?:{re.escape(decimal_mark)}\d+)?"
-                r"(?!\d)", s):
-        head = re.match(r"^[+\-−]?[\d.,]+", s).group()
-        s = head.replace(sep, "") + s[len(head):]
-    return s
-
-
-def parse_value(text: str, unit: str, header_unit: str, decimal_mark: str) -> float:
-    """One number in `unit`: the cell's own unit wins, else the header's."""
-    if header_unit and _BARE.match(text.replace(" ", "")):
-        text = text + header_unit
-    return parse_quantity(text, unit, decimal_comma=decimal_mark == ",")
-
-
-def cell_values(text: str, target: Target, decimal_mark: str = ".") -> tuple[dict, str]:
-    """{column: value} of one numeric cell (signed, as written), and a note
-    (e.g. a range's high end with no column). Raises QuantityError."""
-    name = target.columns[0]
-    unit = cols.spec_of(name)[0]
-    holds = "min" if name.startswith("hfe_min") else (
-        "max" if name.split("@")[0] in ("rds_on_mohm", "vce_sat_mV", "idss_uA", "icbo_nA",
-                                        "idss_hot_uA", "icbo_hot_nA") else None)
-    s = clean_number(text, decimal_mark, holds)
-    try:
-        value = parse_value(s, unit, target.unit, decimal_mark)
-        found = {c: value for c in target.columns} if len(target.columns) == 1 else None
-        if found is None:
-            raise QuantityError(f"'{text}' is one value where a min ~ max range belongs "
-                                "(e.g. 0.4 ~ 1.0); for single values, map the header to one "
-                                "column")
-        return found, ""
-    except QuantityError as single:
-        m = _RANGE.match(s)
-        if not m or (m.group(2) == "/" and target.ranges != "pair"):
-            raise single from None
-        if target.ranges == "error":
-            raise QuantityError(f"'{text}' is a range; {name} holds one value") from None
-    low_text, high_text = m.group(1), m.group(3)
-    tail = _UNIT_TAIL.search(high_text)
-    if tail and not _UNIT_TAIL.search(low_text):
-        low_text += tail.group()  # '400 ~ 1000 mV': the unit of the high side applies to both
-    low, high = (parse_value(t, unit, target.unit, decimal_mark) for t in (low_text, high_text))
-    low, high = sorted((low, high), key=abs)
-    if target.ranges == "pair":
-        return {target.columns[0]: low, target.columns[1]: high}, ""
-    return {name: low}, f"{name}: range '{text}', the low end kept (no column for the high end)"
-
-
-def read_kind(text: str, family: str) -> tuple[str, str]:
-    """(kind, family) of a kind cell: 'P-Channel' -> ('pmos', 'mos'); a bare
-    'N' with no family from the header -> ('n', ''), settled later from the
-    row's columns. Raises ValueError."""
-    s = text.strip().lower()
-    if re.search(r"dual|complement|array|\bn\s*\+\s*p\b|\bp\s*\+\s*n\b", s):
-        raise ValueError(f"'{text}': dual or complementary devices are not catalogue rows; "
-                         "enter each transistor as its own part")
-    bipolar = re.findall(r"npn|pnp", s)
-    if len(set(bipolar)) == 1:
-        return bipolar[0], "bjt"
-    if re.search(r"mos|fet|channel|ch\b", s):
-        family = "mos"
-    rest = _KIND_NOISE.sub("", s)
-    if rest in ("n", "p") and not bipolar:
-        return (rest + "mos" if family == "mos" else rest), family
-    raise ValueError(f"unknown kind '{text}'; expected N- or P-channel, NPN or PNP")
-
-
-STATUS_WORDS = {"active": "active", "production": "active", "in production": "active",
-                "nrnd": "nrnd", "not recommended for new designs": "nrnd",
-                "not for new designs": "nrnd", "eol": "eol", "obsolete": "eol",
-                "end of life": "eol", "discontinued": "eol", "last time buy": "eol"}
 
 
 # -- the mapping file ---------------------------------------------------------

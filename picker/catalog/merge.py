@@ -1,7 +1,7 @@
 """Bring a raw parameter table into the catalogue: values, merge, safe write.
 
-`read_rows` converts each raw row's cells to catalogue units (see
-`cell_values`); `plan_merge` compares the rows with the catalogue and builds
+`picker.catalog.import_rows` converts each raw row's cells to catalogue
+units; `plan_merge` compares the rows with the catalogue and builds
 the catalogue's new bytes by splicing its old bytes: every line that does not
 change is kept byte for byte, new parts are appended in the file's own
 delimiter, encoding, line ending and decimal mark, and with `--update` only
@@ -12,10 +12,7 @@ writes through `safe_io.write_atomic` (temporary file, fsync, rename, `.bak`,
 refused if the file changed since it was read).
 
 Text cells written into the catalogue are made inert for spreadsheets
-(`_written`); cells starting with '=', '+', '@', a tab or a carriage return
-are refused outright in part, maker, package and notes (`_text_value`): such
-a cell in a supplier's table is a formula that leaked into the export, not a
-part's data.
+(`_written`).
 
 Policy for columns the catalogue lacks: refused (and listed) unless
 `add_columns`; then they are appended to the header and every existing row
@@ -31,172 +28,12 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from picker.catalog import columns as cols
-from picker.catalog.load import KNOWN_HEADERS, NO, UNKNOWN_MARKERS, YES, Catalog, Problem, load_catalog
-from picker.errors import CatalogError, PickerError, QuantityError
-from picker.catalog.importer import (BIPOLAR_ONLY, MOSFET_ONLY, STATUS_WORDS, HeaderMatch, Target,
-                             _plain, cell_values, read_kind)
-from picker.safe_io import FileState, file_state, stale_temporaries, write_atomic  # noqa: F401
-from picker.catalog.tabular import TextTable, decode, read_bytes, read_table
-
-
-@dataclass
-class ImportRow:
-    """One raw row, converted: values in catalogue units, where each came from."""
-
-    line: int | None  # None: typed on the command line
-    values: dict[str, object] = field(default_factory=dict)
-    origin: dict[str, int] = field(default_factory=dict)  # column -> raw column number
-    notes: list[str] = field(default_factory=list)
-    family: str = ""  # 'mos' / 'bjt' as the kind cell said
-    ok: bool = True  # False: some cell did not read; the row is held back
-
-    @property
-    def part(self) -> str:
-        return str(self.values.get("part", ""))
-
-
-
-def decimal_mark(table: TextTable) -> str:
-    """'.' or ',': the decimal mark of the numeric cells of `table`, judged by
-    the cells that can only be read one way ('0,5', '2,25', '0.5'; not
-    '1,050'); with no such cell, '.' in a comma-separated file, else ','."""
-    votes = {",": 0, ".": 0}
-    for column in table.columns:
-        for cell in column[:2000]:
-            for mark in votes:
-                m = re.escape(mark)
-                votes[mark] += bool(re.fullmatch(rf"[+\-−]?(?:0{m}\d+|\d+{m}\d{{1,2}}|\d+{m}\d{{4,}})"
-                                                 r"(?:\s*\S{0,4})?", cell.strip()))
-    if votes[","] != votes["."]:
-        return max(votes, key=votes.get)
-    return "." if table.delimiter == "," else ","
-
-
-_TEXT = {"part", "maker", "package", "notes"}
-_FORMULA = ("=", "+", "@", "\t", "\r")
-
-
-def _text_value(row: ImportRow, target: Target, text: str) -> None:
-    name = target.columns[0]
-    value = " ".join(text.split())  # line breaks in a cell become one space
-    if name in _TEXT:
-        if value.startswith(_FORMULA):
-            raise ValueError(f"'{value}' starts with '{value[0]}', which a spreadsheet runs "
-                             "as a formula; remove the sign")
-        row.values[name] = value
-    elif name == "kind":
-        row.values["kind"], row.family = read_kind(value, target.family)
-    elif name == "status":
-        if value.lower() not in STATUS_WORDS:
-            raise ValueError(f"unknown status '{value}'; expected active, nrnd (not "
-                             "recommended for new designs) or eol (obsolete)")
-        row.values["status"] = STATUS_WORDS[value.lower()]
-    elif name == "preferred":
-        if value.lower() not in YES | NO:
-            raise ValueError(f"preferred is '{value}'; expected yes or no")
-        row.values["preferred"] = "yes" if value.lower() in YES else "no"
-
-
-def read_rows(table: TextTable, matches: list[HeaderMatch], *, kind: str | None = None,
-              maker: str | None = None) -> tuple[list[ImportRow], list[Problem]]:
-    """Every raw row converted; each cell that does not read is a Problem with
-    the raw file, line and column. A row with any problem has `ok` False."""
-    mark = decimal_mark(table)
-    mapped = [m for m in matches if m.target is not None]
-    rows, problems = [], []
-    ragged = {line: (column, message) for line, column, message in table.problems}
-    for pos, line in enumerate(table.lines):
-        row = ImportRow(line)
-
-        def problem(column, message, name=None, row=row):
-            problems.append(Problem("error", table.path, row.line, column, message, name))
-            row.ok = False
-
-        if line in ragged:  # values may sit under the wrong headers: not guessed
-            problem(ragged[line][0], ragged[line][1])
-        for m in mapped:
-            text = table.cells(m.position - 1)[pos]
-            if text.strip().lower() in UNKNOWN_MARKERS:
-                continue
-            name = m.target.columns[0]
-            try:
-                if cols.spec_of(name)[0] is None:
-                    _text_value(row, m.target, text)
-                else:
-                    values, note = cell_values(text, m.target, mark)
-                    values.update(dict(m.target.constants))
-                    row.values.update(values)
-                    if note:
-                        row.notes.append(f"{table.path}:{line}:{m.position}: {note}")
-                for c in m.target.columns + tuple(c for c, _ in m.target.constants):
-                    row.origin[c] = m.position
-            except (QuantityError, ValueError) as exc:
-                problem(m.position, getattr(exc, "message", str(exc)), m.target.name)
-        _finish(row, kind, maker, problem)
-        rows.append(row)
-    return rows, problems
-
-
-def _finish(row: ImportRow, kind: str | None, maker: str | None, problem) -> None:
-    """Defaults from the options, the kind settled, P-type negatives made magnitudes."""
-    if not row.values.get("part"):
-        problem(row.origin.get("part"), "no part number in this row", "part")
-    if maker and not row.values.get("maker"):
-        row.values["maker"] = maker
-    if kind and "kind" in row.values and row.values["kind"] not in (kind, kind[0]):
-        problem(row.origin.get("kind"), f"kind '{row.values['kind']}' differs from "
-                f"--kind {kind}", "kind")
-    value = row.values.get("kind") or kind
-    if value in ("n", "p"):  # a bare N or P: the row's columns tell MOSFET from bipolar
-        mos = any(c.startswith(MOSFET_ONLY) for c in row.values)
-        bjt = any(c.startswith(BIPOLAR_ONLY) for c in row.values)
-        if mos == bjt:
-            problem(row.origin.get("kind"), f"kind '{value.upper()}': cannot tell a MOSFET "
-                    "from a bipolar part here; write e.g. P-channel or PNP", "kind")
-            return
-        value = value + "mos" if mos else {"n": "npn", "p": "pnp"}[value]
-    if not value:
-        if row.ok:
-            problem(None, "no kind for this row; map a type column or pass --kind", "kind")
-        return
-    row.values["kind"] = value
-    p_type = value in cols.P_TYPE_KINDS
-    for name, v in list(row.values.items()):
-        if not isinstance(v, float) or v >= 0:
-            continue
-        sign = cols.spec_of(name)[1]
-        if sign == "magnitude" and p_type:
-            row.values[name] = -v
-        elif sign != "any":
-            why = ("only P-channel and PNP values may be written negative"
-                   if sign == "magnitude" else "it must be positive")
-            problem(row.origin.get(name), f"negative value {v:g} in {name}; {why}", name)
-
-
-def row_from_options(fields: list[tuple[str, str, str]]) -> tuple[ImportRow, list[Problem]]:
-    """One row from the command line: (option, column or 'min..max', text) each,
-    through the same conversion as an imported cell."""
-    from picker.catalog.importer import target_from_name
-
-    header, cells, matches, problems = [], [], [], []
-    for i, (option, column, text) in enumerate(fields, start=1):
-        try:
-            target = target_from_name(column)
-        except PickerError as exc:
-            problems.append(Problem("error", "command line", None, None, f"{option}: {exc.message}"))
-            continue
-        header.append(column)
-        cells.append([text])
-        matches.append(HeaderMatch(len(header), option, target, 100.0, "option"))
-    table = TextTable("command line", "utf-8", ",", header, 0, cells, [1], [])
-    rows, found = read_rows(table, matches)
-    for p in found:
-        option = matches[p.column - 1].raw if p.column else f"--{p.column_name}"
-        problems.append(Problem("error", "command line", None, None, f"{option}: {p.message}",
-                                p.column_name))
-    row = rows[0]
-    row.ok, row.line, row.origin = not problems, None, {}  # no raw file line to point at
-    return row, problems
+from picker.catalog.load import KNOWN_HEADERS, Catalog, Problem, load_catalog
+from picker.errors import CatalogError
+from picker.catalog.import_rows import ImportRow, decimal_mark
+from picker.catalog.importer import _plain
+from picker.safe_io import FileState, file_state, write_atomic
+from picker.catalog.tabular import decode, read_bytes, read_table
 
 
 # -- the merge ------------------------------------------------------------------

@@ -78,7 +78,8 @@ def import_table(
     catalogue, and the counts. Exit 0 when done, 2 when nothing was written
     because of bad input."""
     from picker.catalog.importer import load_mapping, mapping_toml, propose_mapping
-    from picker.catalog.merge import plan_merge, read_rows
+    from picker.catalog.import_rows import read_rows
+    from picker.catalog.merge import plan_merge
     from picker.safe_io import write_atomic
     from picker.catalog.tabular import read_table
 
@@ -260,7 +261,8 @@ def add(
 
     A part already in the catalogue with other values is listed field by field
     and kept unless --update."""
-    from picker.catalog.merge import plan_merge, row_from_options
+    from picker.catalog.import_rows import row_from_options
+    from picker.catalog.merge import plan_merge
 
     target = _into(into)
     _exists(target)

@@ -67,7 +67,8 @@ def review(
     Exit 0 when something was found, 1 when there is nothing to propose,
     2 on bad input.
     """
-    from picker.review.bom import read_bom, revised_bom
+    from picker.review.bom import read_bom
+    from picker.review.revised import revised_bom
     from picker.errors import BomError, WriteRefused
     from picker.present.render import Report
     from picker.design.requirements import load_requirements

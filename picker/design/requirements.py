@@ -22,18 +22,14 @@ import re
 import tomllib
 from dataclasses import dataclass
 
-from picker.errors import QuantityError, RequirementError
 from picker.catalog.quantities import format_quantity, parse_quantity, parse_range
-
-USES = ("high-side-pmos", "low-side-nmos", "npn-switch", "pnp-switch")
-KIND_OF_USE = {"high-side-pmos": "pmos", "low-side-nmos": "nmos", "npn-switch": "npn", "pnp-switch": "pnp"}
-PASS_USES = ("high-side-pmos", "low-side-nmos")
-
-MAX_FILE_BYTES, MAX_ROLES, MAX_REFS = 1_000_000, 200, 1000  # files people receive from others
-MAX_VOLUME, MAX_QTY = 10**9, 100_000
-MAX_MAGNITUDE = 1e12  # any quantity, in its unit (A, V, ohm, degC...): 1e24 when squared
-QUICK_SUPPLY_V, QUICK_AMBIENT_C, QUICK_VOLUME, QUICK_REFS = (3.0, 4.2), (-20.0, 50.0), 1000, ("Q?",)
-
+from picker.design.keys import (COMMON_KEYS, EXAMPLES, FAMILY_KEYS, KIND_OF_USE,
+                                MAX_FILE_BYTES, MAX_MAGNITUDE, MAX_QTY, MAX_REFS, MAX_ROLES,
+                                MAX_VOLUME, OPTION_KEYS, PASS_USES, QUANTITIES, QUICK_AMBIENT_C,
+                                QUICK_REFS, QUICK_SUPPLY_V, QUICK_VOLUME, REQUIRED, ROLE_KEYS,
+                                RULES, TABLE_KEYS, TOP_KEYS, USES, _a, _closest, _or)
+from picker.design.where import _FileWhere, _OptionWhere
+from picker.errors import QuantityError, RequirementError
 
 @dataclass(frozen=True)
 class Supply:
@@ -109,188 +105,6 @@ class Requirements:
         tip = f"did you mean {_or(close)}?" if close else f"the roles are {', '.join(names[:20])}"
         raise RequirementError(f"no role named '{name}'; {tip}",
                                file=self.source if self.source not in ("", "command line") else None)
-
-
-# -- the keys, as data -------------------------------------------------------------------
-
-TOP_KEYS = ("supply", "ambient", "build", "margins", "role")
-TABLE_KEYS = {"supply": ("min", "max", "capacity"), "ambient": ("min", "max"),
-              "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin")}
-COMMON_KEYS = ("name", "refs", "use", "qty", "max_off_current")
-FAMILY_KEYS = {True: ("load", "max_drop", "gate_drive", "gate_drive_drop", "max_tj"),  # by is_pass_switch
-               False: ("collector_current", "base_drive", "base_resistor", "overdrive", "max_vce_sat")}
-ROLE_KEYS = COMMON_KEYS + FAMILY_KEYS[True] + FAMILY_KEYS[False]
-REQUIRED = {True: ("load", "max_drop"), False: ("collector_current", "base_resistor")}
-
-# key: (field, unit, rule, example)
-QUANTITIES = {
-    "load": ("load_A", "A", "positive", "1.5 A"),
-    "max_drop": ("max_drop_V", "V", "positive", "60 mV"),
-    "gate_drive": ("gate_drive_V", "V", "drive", "supply"),
-    "gate_drive_drop": ("gate_drive_drop_V", "V", "non-negative", "0.1 V"),
-    "max_tj": ("max_tj_C", "degC", "temperature", "100 degC"),
-    "collector_current": ("collector_current_A", "A", "positive", "40 uA"),
-    "base_drive": ("base_drive_V", "V", "drive", "supply"),
-    "base_resistor": ("base_resistor_ohm", "ohm", "positive", "68 kohm"),
-    "overdrive": ("overdrive", "1", "at-least-1", "2"),
-    "max_vce_sat": ("max_vce_sat_V", "V", "positive", "0.15 V"),
-    "max_off_current": ("max_off_current_A", "A", "positive", "1 uA"),
-    "derate_v": ("derate_v", "1", "fraction", "0.8"),
-    "derate_i": ("derate_i", "1", "fraction", "0.5"),
-    "tj_margin": ("tj_margin_C", "degC", "non-negative", "25 degC"),
-}
-RULES = {  # rule: (test the value must pass, what the message says otherwise)
-    "positive": (lambda x: x > 0, "must be above zero"),
-    "non-negative": (lambda x: x >= 0, "must not be negative"),
-    "drive": (lambda x: x > 0, 'must be "supply" or a voltage above zero (write magnitudes: '
-                               'a gate pulled to -2.5 V is "2.5 V")'),
-    "temperature": (lambda x: x >= -273.15, "is below absolute zero"),
-    "at-least-1": (lambda x: x >= 1, "must be 1 or more"),
-    "fraction": (lambda x: 0 < x <= 1, "must be above 0 and at most 1 (0.8 uses a rating up to 80 %)"),
-}
-EXAMPLES = {"name": '"pass"', "refs": '["Q1"]', "use": '"high-side-pmos"', "volume": "5000",
-            "supply.min": '"3.0 V"', "supply.max": '"4.2 V"', "ambient.min": '"-20 degC"',
-            "ambient.max": '"45 degC"', **{k: f'"{v[3]}"' for k, v in QUANTITIES.items()}}
-
-# option key -> (table, key); key None: a range 'MIN..MAX' filling min and max
-OPTION_KEYS = {"supply": ("supply", None), "ambient": ("ambient", None), "capacity": ("supply", "capacity"),
-               "volume": ("build", "volume"), "max_off": ("role", "max_off_current"),
-               **{k: ("margins", k) for k in TABLE_KEYS["margins"]},
-               **{k: ("role", k) for k in ROLE_KEYS if k != "max_off_current"}}
-
-
-def _closest(word: str, choices, cutoff: float = 0.6) -> list[str]:
-    import difflib  # only on the error path
-
-    return difflib.get_close_matches(word, list(choices), n=3, cutoff=cutoff)
-
-
-def _or(words) -> str:
-    quoted = [f"'{w}'" for w in words]
-    return quoted[0] if len(quoted) == 1 else ", ".join(quoted[:-1]) + " or " + quoted[-1]
-
-
-def _a(use: str) -> str:
-    return f"an {use}" if use.startswith("n") else f"a {use}"  # 'an npn-switch', 'a pnp-switch'
-
-
-# -- where a problem is: a place in a file, or a command-line option ----------------------
-
-class _FileWhere:
-    """Labels a key path (`[[role]] #2 "latch" load`) and finds its line by scanning the text."""
-
-    _HEADER = re.compile(r"\s*(\[\[?)\s*([^\[\]#]+?)\s*\]")
-
-    def __init__(self, source: str, text: str, doc: dict) -> None:
-        self.source, self.doc, self.lines = source, doc, text.split("\n")
-        starts, in_string = [("", 0)], None  # (header, 0-based line); "" is the top level
-        for n, line in enumerate(self.lines):
-            if in_string is None and (name := self._toml_header(line)) is not None:
-                starts.append((name, n))
-            elif in_string is None and (m := self._HEADER.match(line)):
-                starts.append((m.group(1) + re.sub(r"[\s\"']", "", m.group(2)), n))
-            in_string = self._open_string(line, in_string)  # skip headers inside them
-        ends = [n for _, n in starts[1:]] + [len(self.lines)]
-        self.sections = [(h, n, end) for (h, n), end in zip(starts, ends)]
-
-    _TOKENS = re.compile(r'"""|\'\'\'|"(?:[^"\\\n]|\\.)*"|\'[^\'\n]*\'|#')
-
-    @classmethod
-    def _open_string(cls, line: str, open_: str | None) -> str | None:
-        """The multi-line string (its quotes) still open after `line`, given the
-        one open before it: one-line strings and comments are stepped over, so
-        quotes inside them do not count."""
-        pos = 0
-        while True:
-            if open_:
-                end = line.find(open_, pos)
-                if end < 0:
-                    return open_
-                pos, open_ = end + 3, None
-                continue
-            m = cls._TOKENS.search(line, pos)
-            if m is None or m.group() == "#":
-                return None
-            if m.group() in ('"""', "'''"):
-                open_ = m.group()
-            pos = m.end()
-
-    @staticmethod
-    def _toml_header(line: str) -> str | None:
-        """'[' or '[[' and the dotted name of a table header line, read as TOML
-        (so quoted names holding '#', quotes or escapes read as tomllib reads
-        them); None when the line is not a header on its own."""
-        text = line.strip()
-        if not text.startswith("["):
-            return None
-        try:
-            node = tomllib.loads(text)
-        except (ValueError, RecursionError):
-            return None
-        names = []
-        while isinstance(node, dict) and len(node) == 1:
-            name, node = next(iter(node.items()))
-            names.append(name)
-        return ("[[" if text.startswith("[[") else "[") + ".".join(names) if names else None
-
-    def label(self, path: tuple) -> str:
-        if path[:1] == ("role",) and len(path) > 1:
-            name = self.doc["role"][path[1]].get("name")
-            head = f"[[role]] #{path[1] + 1}" + (f' "{name}"' if isinstance(name, str) else "")
-            return " ".join([head, *path[2:]])
-        return " ".join([f"[{path[0]}]", *path[1:]]) if path[:1] and path[0] in TABLE_KEYS else ".".join(path)
-
-    def _find(self, path: tuple) -> tuple[int, int] | None:
-        if path[0] == "role" and len(path) > 1:
-            roles = [s for s in self.sections if s[0] == "[[role"]
-            section, keys = (roles[path[1]] if path[1] < len(roles) else None), path[2:]
-        else:
-            tables = [s for s in self.sections if s[0] == "[" + path[0]]
-            section, keys = (tables[0], path[1:]) if tables else (self.sections[0], path)
-        if section is None or not keys:
-            return section and (section[1] + 1, 1)
-        key = re.compile(r"\s*(%s|\"%s\"|'%s')\s*[=.]" % ((re.escape(keys[0]),) * 3))
-        for n in range(section[1] + bool(section[0]), section[2]):
-            if key.match(self.lines[n]):
-                return n + 1, len(self.lines[n]) - len(self.lines[n].lstrip()) + 1
-        for n in range(section[1] + bool(section[0]), section[2]):  # a key written with escapes
-            try:
-                if "=" in self.lines[n] and keys[0] in tomllib.loads(self.lines[n]):
-                    return n + 1, len(self.lines[n]) - len(self.lines[n].lstrip()) + 1
-            except (ValueError, RecursionError):  # a line of a multi-line value, or not a key line
-                continue
-        return None
-
-    def fail(self, path: tuple, message: str, *, at: tuple | None = None):
-        at = path if at is None else at
-        found = next((f for cut in range(len(at), 0, -1) if (f := self._find(at[:cut]))), (None, None))
-        label = self.label(path)  # the key, else the table around it
-        raise RequirementError(f"{label}: {message}" if label else message,
-                               file=self.source, line=found[0], column=found[1])
-
-    def missing(self, table: tuple, key: str, why: str = ""):
-        example = EXAMPLES.get(f"{table[0]}.{key}") or EXAMPLES[key]
-        self.fail(table, f"missing key '{key}'" + (f", required{why}" if why else "") + f"; e.g. {key} = {example}")
-
-
-class _OptionWhere:
-    """Labels a key path with the command-line option that sets it (`--max-drop`)."""
-
-    def __init__(self, doc: dict) -> None:
-        self.doc = doc
-
-    def label(self, path: tuple) -> str:
-        if not path:
-            return "options"
-        key = path[-1] if path[-1] not in ("min", "max") else path[0]
-        return "--" + ("max_off" if key == "max_off_current" else key).replace("_", "-")
-
-    def fail(self, path: tuple, message: str, *, at: tuple | None = None):
-        raise RequirementError(f"{self.label(path)}: {message}")
-
-    def missing(self, table: tuple, key: str, why: str = ""):
-        option = self.label((*table, key))
-        raise RequirementError(f"{option} is required{why}; e.g. {option} {EXAMPLES[key].strip(chr(34))}")
 
 
 # -- reading values ------------------------------------------------------------------------

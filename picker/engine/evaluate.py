@@ -19,31 +19,19 @@ from functools import cached_property
 import numpy as np
 import pandas as pd
 
-from picker.engine import parallel
-from picker.catalog.load import points as _catalog_points
-from picker.catalog.load import values as _catalog_values
-from picker.models import bipolar, leakage, mosfet, pricing, thermal
-from picker.models._defaults import or_default
 from picker.design.requirements import Requirements, Role
+from picker.engine import parallel
+from picker.engine.checks import FAIL, OUTCOME, PASS, UNKNOWN  # noqa: F401
+from picker.engine.parts import PartData, _data, catalogue_columns, points, values  # noqa: F401
+from picker.engine.pass_switch import (PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES,  # noqa: F401
+                                       PASS_SWITCH_RATINGS,
+                                       pass_switch, pass_switch_columns)
+from picker.engine.saturated_switch import (SWITCH_CHECKS, SWITCH_FIGURES, SWITCH_RATINGS,  # noqa: F401
+                                            saturated_switch, saturated_switch_columns)
+from picker.models import pricing
 
-PASS, FAIL, UNKNOWN = 1, 0, -1
-OUTCOME = {PASS: "pass", FAIL: "fail", UNKNOWN: "unknown"}
-GATE_HEADROOM_V = 0.1  # models/README.md §6: vgs must exceed Vt(Ta) by this much
 HOURS_PER_YEAR = 8766.0  # 365.25 days
 BLOCK_ROWS = 65_536  # parts evaluated together (see `in_blocks`)
-
-# The numeric catalogue columns the models read (besides the '@' point families).
-MODEL_NUMBERS = {"vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "vgs_th_tc_mV/C",
-                 "rds_tc_pct/C", "idss_uA", "idss_hot_uA", "idss_hot_C", "vceo_max_V", "ic_max_A",
-                 "vbe_on_V", "icbo_nA", "icbo_hot_nA", "icbo_hot_C", "rth_ja_C/W", "tj_max_C"}
-PASS_SWITCH_CHECKS = ("gate_drive", "drop", "tj", "off_current", "vds_rating", "vgs_rating",
-                      "id_rating")
-SWITCH_CHECKS = ("saturation", "vce_sat", "off_current", "vceo_rating", "ic_rating")
-PASS_SWITCH_FIGURES = ("vgs_V", "rds_on_ohm", "drop_V", "loss_W", "tj_C", "off_current_A", "corner")
-SWITCH_FIGURES = ("ib_A", "hfe", "vce_sat_V", "off_current_A")
-# Catalogue values a candidate row carries as they are (the reasons quote them).
-PASS_SWITCH_RATINGS = ("vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "rth_ja_C/W", "tj_max_C")
-SWITCH_RATINGS = ("vceo_max_V", "ic_max_A", "icbo_nA")
 NOTE_FLAGS = {  # flag column -> note text
     "extrapolated": "extrapolated",
     "below_first_break": "below first break",
@@ -52,129 +40,6 @@ NOTE_FLAGS = {  # flag column -> note text
     "eol": "eol",
     "nrnd": "nrnd",
 }
-
-
-class PartData:
-    """Catalogue rows as the models read them: each column turned into a float
-    array once and kept, so repeated evaluations of the same parts (the
-    lowest-supply search runs the engine some 40 times) pay for pandas once.
-
-    `rows` (an index array or a slice of positions in `df`; None: every row)
-    makes it the data of those parts only, read column by column as the
-    models ask for it: the catalogue is never copied whole. `take(rows)` gives
-    the same for a subset without going back to pandas."""
-
-    def __init__(self, df: pd.DataFrame, memo: dict | None = None, rows=None) -> None:
-        self.df = df
-        self.rows = rows
-        self.index = df.index if rows is None else df.index[rows]
-        self._memo = memo if memo is not None else {}
-
-    def __len__(self) -> int:
-        return len(self.index)
-
-    def __contains__(self, name: str) -> bool:
-        return name in self.df
-
-    def _get(self, key, make):
-        if key not in self._memo:
-            self._memo[key] = make()
-        return self._memo[key]
-
-    def _pick(self, column):
-        """A whole-catalogue column cut down to these parts."""
-        return column if self.rows is None else column[self.rows]
-
-    def values(self, name: str) -> np.ndarray:
-        return self._get(("values", name), lambda: self._pick(_catalog_values(self.df, name)))
-
-    def points(self, prefix: str) -> tuple[np.ndarray, np.ndarray]:
-        """A point family as `picker.catalog.load.points` gives it, but never zero
-        columns wide: a catalogue without any such column (say, bipolar parts
-        only, or no prices) gets one all-blank column, so the models see "no
-        point" (unknown) instead of an empty array they cannot reduce."""
-        def make():
-            conditions, matrix = _catalog_points(self.df, prefix, self.values)
-            if conditions.size == 0:
-                return np.array([np.nan]), np.full((len(self), 1), np.nan)
-            return conditions, matrix
-        return self._get(("points", prefix), make)
-
-    def identity(self) -> dict:
-        """part, maker, package, preferred, status and the eol / nrnd flags."""
-        def make():
-            # Text columns stay in the catalogue's own arrays (no conversion
-            # of a million strings); only the flags are computed.
-            df, out = self.df, {}
-            for name in ("part", "maker", "package", "status"):
-                out[name] = self._pick(df[name].array if name in df
-                                       else np.full(len(df), "", dtype=object))
-            out["preferred"] = self._pick(df["preferred"].to_numpy(dtype=bool))
-            out["eol"] = self._pick((df["status"] == "eol").to_numpy(dtype=bool))
-            out["nrnd"] = self._pick((df["status"] == "nrnd").to_numpy(dtype=bool))
-            return out
-        return self._get(("identity",), make)
-
-    def prefetch(self) -> None:
-        """Every numeric column the models read as an array now (`take` then
-        hands out slices of them)."""
-        self.identity()
-        for name in self.df.columns:
-            if "@" in name or name in MODEL_NUMBERS:
-                self.values(name)
-
-    def fit(self) -> mosfet.OnResistanceFit:
-        """The on-resistance fit (models/README.md §1) of these parts."""
-        def make():
-            drives_V, rds_mohm = self.points("rds_on_mohm")
-            return mosfet.fit_on_resistance(drives_V, rds_mohm / 1000.0, self.values("vgs_th_max_V"))
-        return self._get(("fit",), make)
-
-    def take(self, rows) -> "PartData":
-        """The same parts data for the parts at positions `rows` (an index
-        array or a slice) of these."""
-        memo = {}
-        for key, value in self._memo.items():
-            if key[0] == "values":
-                memo[key] = value[rows]
-            elif key[0] == "points":
-                memo[key] = (value[0], value[1][rows])
-            elif key[0] == "identity":
-                memo[key] = {name: column[rows] for name, column in value.items()}
-            elif key[0] == "fit":
-                memo[key] = mosfet.OnResistanceFit(*(np.asarray(f)[rows] for f in (
-                    value.r_fix_ohm, value.k_ohm_V, value.lowest_drive_V, value.n_points)))
-        if self.rows is None:
-            within = rows
-        else:
-            mine = self.rows if not isinstance(self.rows, slice) else np.arange(len(self.df))[self.rows]
-            within = mine[rows]
-        return PartData(self.df, memo, within)
-
-
-def _data(parts) -> PartData:
-    return parts if isinstance(parts, PartData) else PartData(parts)
-
-
-def values(parts, name: str) -> np.ndarray:
-    return _data(parts).values(name)
-
-
-def points(parts, prefix: str) -> tuple[np.ndarray, np.ndarray]:
-    return _data(parts).points(prefix)
-
-
-def _check(ok: np.ndarray, known: np.ndarray) -> np.ndarray:
-    """Outcome codes from a boolean test and where its inputs are known."""
-    ok = np.asarray(ok, dtype=bool).astype(np.int8)  # PASS = 1, FAIL = 0
-    return np.where(known, ok, np.int8(UNKNOWN))
-
-
-def _limit_check(value: np.ndarray, limit: float, *, at_least: bool = False) -> np.ndarray:
-    """value <= limit (or >= with at_least); unknown where value is NaN."""
-    with np.errstate(invalid="ignore"):
-        ok = value >= limit if at_least else value <= limit
-    return _check(ok, np.isfinite(value))
 
 
 @dataclass
@@ -263,7 +128,7 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     checks, figures = role_checks(role)
     # Columns are gathered in a dict and made a DataFrame once: inserting
     # some 45 columns one by one costs more than all the models together.
-    out = catalogue_columns(parts, role)
+    out = catalogue_columns(parts, PASS_SWITCH_RATINGS if role.is_pass_switch else SWITCH_RATINGS)
     out.update(in_blocks(parts, lambda block: _role_columns(block, role, req, checks)))
     # A small table is consolidated (later selections are faster); a large one
     # is not copied at all (the arrays are fresh): copying 10^6 rows x 45
@@ -350,183 +215,6 @@ def in_blocks(parts: PartData, columns) -> dict:
 def _codes(value):
     """A column's values as a numpy array (a categorical's codes)."""
     return value.codes if isinstance(value, pd.Categorical) else np.asarray(value)
-
-
-def catalogue_columns(parts: PartData, role: Role) -> dict:
-    """The columns a candidate row carries from the catalogue as they are:
-    part, maker, package, preferred, status, the eol / nrnd flags and the
-    ratings of the role's kind (a fresh dict)."""
-    out = dict(parts.identity())
-    for name in PASS_SWITCH_RATINGS if role.is_pass_switch else SWITCH_RATINGS:
-        out[name] = values(parts, name)
-    return out
-
-
-def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
-    """models/README.md §6, high-side-pmos and low-side-nmos, at both corners (§5):
-    one row per part (index of `parts`, a DataFrame or PartData), no price,
-    no rank."""
-    parts = _data(parts)
-    return pd.DataFrame(pass_switch_columns(parts, role, req), index=parts.index)
-
-
-def pass_switch_columns(parts, role: Role, req: Requirements, *,
-                        on_state_only: bool = False, catalogue: bool = True) -> dict:
-    """`pass_switch` as a dict of arrays (no DataFrame made). `on_state_only`
-    stops after the checks the supply can change (gate drive, drop, Tj): all
-    the lowest-supply search needs. `catalogue=False` leaves out the columns
-    `catalogue_columns` gives."""
-    parts = _data(parts)
-    out = catalogue_columns(parts, role) if catalogue else {}
-    load_A = role.load_A
-    vt25_V = values(parts, "vgs_th_max_V")
-    fit = parts.fit()
-    # Per-part coefficients, or the model's default where the catalogue has
-    # none (a plain number when no part overrides it: nothing to index then).
-    k_vt = or_default(np.abs(values(parts, "vgs_th_tc_mV/C")) / 1000.0, mosfet.K_VT_V_PER_C)
-    a = or_default(values(parts, "rds_tc_pct/C") / 100.0, mosfet.RDS_TC_PER_C)
-    rth = values(parts, "rth_ja_C/W")
-    drive_V = req.supply.min_V if role.gate_drive_V is None else role.gate_drive_V
-    vgs_V = drive_V - role.gate_drive_drop_V
-
-    resistance = mosfet.heated_resistance(vgs_V, fit.r_fix_ohm, fit.k_ohm_V, vt25_V, k_vt, a)
-
-    corners = {}
-    for corner, ta_C in (("cold", req.ambient.min_C), ("hot", req.ambient.max_C)):
-        if corner == "hot" and np.array_equal(ta_C, req.ambient.min_C):
-            corners["hot"] = corners["cold"]  # one ambient (the lowest-supply search): same figures
-            break
-        vt_V = mosfet.threshold_at(vt25_V, ta_C, k_vt)
-        tj_C, converged = thermal.solve_junction_temperature(ta_C, load_A, rth, resistance)
-        tj_C = np.broadcast_to(tj_C, vt25_V.shape)
-        rds = resistance(tj_C)
-        corners[corner] = dict(vt_V=vt_V, gate_ok=vgs_V >= vt_V + GATE_HEADROOM_V, tj_C=tj_C,
-                               converged=np.broadcast_to(converged, vt25_V.shape), rds=rds)
-    cold, hot = corners["cold"], corners["hot"]
-
-    gate_known = np.isfinite(vt25_V)
-    gate_ok = cold["gate_ok"] & hot["gate_ok"]
-    out["check_gate_drive"] = _check(gate_ok, gate_known)
-    on = gate_known & gate_ok  # where the gate check fails, on-state figures are null
-    out["vgs_V"] = vgs_V
-    out["vt_cold_V"] = cold["vt_V"]
-    out["gate_margin_V"] = vgs_V - (np.maximum(cold["vt_V"], hot["vt_V"]) + GATE_HEADROOM_V)
-
-    hot_worse = np.nan_to_num(hot["rds"], nan=-np.inf) > np.nan_to_num(cold["rds"], nan=-np.inf)
-    rds = np.where(on, np.fmax(cold["rds"], hot["rds"]), np.nan)
-    out["rds_on_ohm"] = rds
-    out["drop_V"] = load_A * rds
-    out["drop_cold_V"] = np.where(on, load_A * cold["rds"], np.nan)
-    out["drop_hot_V"] = np.where(on, load_A * hot["rds"], np.nan)
-    out["loss_W"] = load_A ** 2 * rds
-    out["corner"] = pd.Categorical.from_codes(  # 'cold' / 'hot'; NaN where no drop is known
-        np.where(np.isfinite(rds), hot_worse.astype(np.int8), -1), categories=["cold", "hot"])
-    out["check_drop"] = _limit_check(out["drop_V"], role.max_drop_V)
-
-    # Junction temperature: the worse corner (the hot one, as Ta is higher).
-    tj_C = np.where(on, np.fmax(cold["tj_C"], hot["tj_C"]), np.nan)
-    has_rth = np.isfinite(rth)
-    out["tj_C"] = np.where(has_rth, tj_C, np.nan)
-    settled = cold["converged"] & hot["converged"]
-    tj_limit_C = _tj_limit(values(parts, "tj_max_C"), role.max_tj_C, req.margins.tj_margin_C)
-    out["tj_limit_C"] = tj_limit_C
-    with np.errstate(invalid="ignore"):
-        tj_ok = settled & (tj_C <= tj_limit_C)
-    # Runaway fails whatever the limit (models/README.md §3: "No convergence ... fails"),
-    # so it is decided even where neither limit is known.
-    known = has_rth & on & np.isfinite(fit.k_ohm_V) & (np.isfinite(tj_limit_C) | ~settled)
-    out["check_tj"] = _check(tj_ok, known)
-    out["extrapolated"] = on & mosfet.extrapolated(vgs_V, fit.lowest_drive_V)
-    if on_state_only:
-        return out
-
-    idss_A = values(parts, "idss_uA") * 1e-6
-    out["off_current_A"] = leakage.leakage_at(idss_A, req.ambient.max_C,
-                                              values(parts, "idss_hot_uA") * 1e-6,
-                                              values(parts, "idss_hot_C"))
-    if role.max_off_current_A is not None:
-        out["check_off_current"] = _limit_check(out["off_current_A"],
-                                                role.max_off_current_A)
-    derate_v, derate_i = req.margins.derate_v, req.margins.derate_i
-    # The gate swings the whole rail when it turns on (models/README.md §6); a gate
-    # drive above the rail swings that much instead.
-    gate_swing_V = max(req.supply.max_V, role.gate_drive_V or 0.0)
-    out["gate_swing_V"] = gate_swing_V
-    out["settled"] = settled
-    out["check_vds_rating"] = _limit_check(values(parts, "vds_max_V") * derate_v,
-                                           req.supply.max_V, at_least=True)
-    out["check_vgs_rating"] = _limit_check(values(parts, "vgs_max_V") * derate_v,
-                                           gate_swing_V, at_least=True)
-    out["check_id_rating"] = _limit_check(values(parts, "id_max_A") * derate_i, load_A,
-                                          at_least=True)
-    return out
-
-
-def _tj_limit(tj_max_C: np.ndarray, role_max_C: float | None, margin_C: float) -> np.ndarray:
-    """min(role max_tj, tj_max_C - margin), either alone where the other is unknown."""
-    part_limit = tj_max_C - margin_C
-    if role_max_C is None:
-        return part_limit
-    return np.fmin(part_limit, role_max_C)
-
-
-def saturated_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
-    """models/README.md §6, npn-switch and pnp-switch: saturation at the cold corner;
-    one row per part (index of `parts`, a DataFrame or PartData), no price,
-    no rank."""
-    parts = _data(parts)
-    return pd.DataFrame(saturated_switch_columns(parts, role, req), index=parts.index)
-
-
-def saturated_switch_columns(parts, role: Role, req: Requirements, *,
-                             on_state_only: bool = False, catalogue: bool = True) -> dict:
-    """`saturated_switch` as a dict of arrays (no DataFrame made).
-    `on_state_only` stops after the saturation check (all the lowest-supply
-    search needs); `catalogue` as `pass_switch_columns`."""
-    parts = _data(parts)
-    out = catalogue_columns(parts, role) if catalogue else {}
-    ic_A = role.collector_current_A
-    cold_C = req.ambient.min_C
-    drive_V = req.supply.min_V if role.base_drive_V is None else role.base_drive_V
-    vbe_V = bipolar.vbe_at(values(parts, "vbe_on_V"), cold_C)
-    ib_A = bipolar.base_current(drive_V, vbe_V, role.base_resistor_ohm)
-    ic_points_mA, hfe_points = points(parts, "hfe_min")
-    hfe25, below_points = bipolar.hfe_at_current(ic_points_mA / 1000.0, hfe_points, ic_A)
-    hfe = bipolar.hfe_at_temperature(hfe25, cold_C)
-    out["vbe_cold_V"] = vbe_V
-    out["ib_A"] = ib_A
-    out["hfe"] = hfe
-    overdrive = bipolar.saturation_overdrive(ib_A, hfe, ic_A)
-    out["overdrive"] = overdrive
-    out["check_saturation"] = _limit_check(overdrive, role.overdrive, at_least=True)
-    out["extrapolated"] = below_points
-    if on_state_only:
-        return out
-
-    sat_points_mA, sat_mV = points(parts, "vce_sat_mV")
-    vce_sat_V = bipolar.vce_sat_at_current(sat_points_mA / 1000.0, sat_mV / 1000.0, ic_A)
-    gain = bipolar.forced_gain(ic_A, ib_A)
-    guaranteed = bipolar.vce_sat_guaranteed(ic_A, ib_A)
-    out["vce_sat_V"] = vce_sat_V
-    out["forced_gain"] = gain
-    out["not_guaranteed"] = np.isfinite(vce_sat_V) & ~guaranteed
-    if role.max_vce_sat_V is not None:
-        with np.errstate(invalid="ignore"):
-            ok = vce_sat_V <= role.max_vce_sat_V
-        out["check_vce_sat"] = _check(ok, np.isfinite(vce_sat_V) & guaranteed)
-
-    icbo_A = values(parts, "icbo_nA") * 1e-9
-    out["off_current_A"] = leakage.leakage_at(icbo_A, req.ambient.max_C,
-                                              values(parts, "icbo_hot_nA") * 1e-9,
-                                              values(parts, "icbo_hot_C"))
-    if role.max_off_current_A is not None:
-        out["check_off_current"] = _limit_check(out["off_current_A"],
-                                                role.max_off_current_A)
-    out["check_vceo_rating"] = _limit_check(values(parts, "vceo_max_V") * req.margins.derate_v,
-                                            req.supply.max_V, at_least=True)
-    out["check_ic_rating"] = _limit_check(values(parts, "ic_max_A") * req.margins.derate_i,
-                                          ic_A, at_least=True)
-    return out
 
 
 def _price(out: dict, parts: PartData, role: Role, req: Requirements) -> None:

@@ -10,7 +10,6 @@ import pandas as pd
 
 from picker.engine.evaluate import DesignResult, RoleResult, notes
 from picker.engine.reasons import _v, reasons
-from picker.catalog.quantities import format_quantity as q
 from picker.present.render import Column, Report, Section
 
 # Lithium-ion self-discharge is a few percent a month (from memory, models/README.md §9).

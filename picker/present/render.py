@@ -9,7 +9,6 @@ in the unit named by the column key, undecorated on stdout).
 from __future__ import annotations
 
 import json
-import math
 from dataclasses import dataclass, field
 from typing import Any, Iterable
 
