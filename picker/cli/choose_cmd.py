@@ -49,6 +49,10 @@ def choose(
     """Evaluate every catalogue part for each role at the worst-case corners and
     rank the feasible ones by cost at the build volume.
 
+    The method behind every figure and note (formulas, defaults, sources,
+    what is assumed outside a datasheet's rated drives) is
+    picker/models/README.md, installed with the package.
+
     Exit 0 when every role has a feasible part, 1 when some role has none,
     2 on bad input.
     """
