@@ -111,7 +111,7 @@ def corrupt(part: str, rng: np.random.Generator) -> tuple[str, str]:
 
 def bom_csv(parts: list[str], lines: int, rng: np.random.Generator) -> tuple[str, dict, list]:
     """The BOM text, the count of each spelling, and per line (true part or None, spelling)."""
-    out = ["Item,Qty,Ref Des,Manufacturer,MPN,Description,Unit Price"]
+    out = ["Item,Qty,Refs,Maker,Part number,Description,Unit price"]
     kinds: dict[str, int] = {}
     truth: list[tuple[str | None, str]] = []
     ref = 1
@@ -120,7 +120,7 @@ def bom_csv(parts: list[str], lines: int, rng: np.random.Generator) -> tuple[str
         qty = int(rng.choice([1, 1, 1, 2, 4]))
         if roll < 0.1:  # a resistor: carried through
             refs = f"R{item}"
-            out.append(f'{item},1,{refs},Resistor Maker,RS-{item:05d}-F,RES 10K 0402,0.002')
+            out.append(f'{item},1,{refs},Resistor Maker,RS-{item:05d}-F,10k 0402 resistor,0.002')
             kinds["other"] = kinds.get("other", 0) + 1
             truth.append((None, "other"))
             continue
@@ -133,7 +133,7 @@ def bom_csv(parts: list[str], lines: int, rng: np.random.Generator) -> tuple[str
         kinds[how] = kinds.get(how, 0) + 1
         refs = f"Q{ref}" if qty == 1 else f"Q{ref}-Q{ref + qty - 1}"
         ref += qty
-        out.append(f'{item},{qty},"{refs}",Some Maker,{part},TRANSISTOR,0.05')
+        out.append(f'{item},{qty},"{refs}",Some Maker,{part},small transistor,0.05')
     return "\r\n".join(out) + "\r\n", kinds, truth
 
 

@@ -454,7 +454,7 @@ def test_json_output(tmp_path):
     assert result.exit_code == 0
     doc = json.loads(result.stdout)
     assert doc["volume"] == 5000 and doc["volume_source"] == "--volume"
-    assert doc["columns"]["part"] == "MPN"
+    assert doc["columns"]["part"] == "Part number"
     lines = {d["refs"]: d for d in doc["lines"]}
     q4 = lines["Q4-Q7"]
     assert (q4["part"], q4["proposal"], q4["unit_now"], q4["unit_after"]) == (
