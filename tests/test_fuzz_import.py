@@ -228,3 +228,12 @@ def test_regression_save_map_into_a_folder(tmp_path):
                     "--save-map", str(tmp_path / "folder"))
     assert result.exception is None or isinstance(result.exception, SystemExit)
     assert result.exit_code == 2 and "is a folder" in result.output
+
+
+def test_regression_price_header_with_a_quantity_past_any_float():
+    """'Price 999...9' (hundreds of digits) read as an infinite quantity break,
+    and int() of it raised OverflowError from the header mapping (exit 3); now
+    the header is left out with its reason, as any header without a usable break."""
+    m = match_header(1, "Price " + "9" * 400)
+    assert m.target is None and "quantity break" in m.note
+    assert match_header(1, "Price 1000").target.columns == ("price@1000",)

@@ -293,7 +293,7 @@ def match_header(position: int, raw: str, min_score: float = MAP_AT) -> HeaderMa
     if quantity == "price":
         qty = [v * (1000 if u == "k" else 1) for var, v, u in conditions
                if u in ("k", "pcs", "pieces", "") and var in ("qty", "quantity", "")]
-        if not qty or qty[0] < 1 or qty[0] != int(qty[0]):
+        if not qty or not qty[0] < 1e15 or qty[0] < 1 or qty[0] != int(qty[0]):
             return out("no quantity break in the header; map it with --map, e.g. price@1000")
         return _found(position, raw, (f"price@{int(qty[0])}",), "", score)
     return _found(position, raw, (quantity,), unit, score, family=family)
