@@ -23,6 +23,7 @@ string and converted once, so ``25 mΩ`` in a mΩ column is exactly 25.0.
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass
 from decimal import Decimal
@@ -300,3 +301,18 @@ def format_quantity(value: float, unit: str, digits: int | None = 3) -> str:
     else:
         number = f"{float(mantissa):.{digits}g}"
     return f"{number} {prefix}{dim.base}"
+
+
+def resistor_code(ohm: float) -> str:
+    """A resistance as a designer writes it on a schematic, in the letter-and-digit
+    code of IEC 60062: the letter is the multiplier and stands where the decimal
+    point would be (470000 -> '470k', 2.2e6 -> '2M2', 4700 -> '4k7', 100 -> '100R',
+    0.47 -> 'R47'); up to three significant figures, as the E-series carry.
+    NaN is written '' (unknown)."""
+    if not math.isfinite(ohm) or ohm <= 0:
+        return "" if ohm != ohm else f"{ohm:g}"
+    exact = Decimal(f"{ohm:.3g}")
+    exp3 = min(max((exact.adjusted() // 3) * 3, 0), 12)
+    letter = {0: "R", 3: "k", 6: "M", 9: "G", 12: "T"}[exp3]
+    whole, _, fraction = format(exact.scaleb(-exp3).normalize(), "f").partition(".")
+    return f"{'' if whole == '0' and fraction else whole}{letter}{fraction}"
