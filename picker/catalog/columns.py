@@ -2,7 +2,7 @@
 
 Each column has a unit (a key of `quantities.UNITS`, or None for text) and a
 sign rule. Point columns carry their condition after an '@':
-`rds_on_mohm@2.5V`, `hfe_min@1mA`, `vce_sat_mV@10mA`, `price@1000`.
+`rds_on_mohm@2.5V`, `hfe_min@1mA`, `vce_sat_mV@10mA`, `qg_nC@4.5V`, `price@1000`.
 """
 
 from __future__ import annotations
@@ -81,18 +81,19 @@ POINT_FAMILIES: dict[str, PointFamily] = {
         PointFamily("rds_on_mohm", "mohm", "V", "positive", "max on-resistance at 25 °C at this gate drive"),
         PointFamily("hfe_min", "1", "mA", "positive", "min DC current gain at this collector current"),
         PointFamily("vce_sat_mV", "mV", "mA", "magnitude", "max saturation voltage at this Ic, Ic/Ib = 10"),
+        PointFamily("qg_nC", "nC", "V", "positive", "total gate charge at this gate drive (models/README.md §10)"),
         PointFamily("price", "1", "", "positive", "unit price at this quantity and above"),
     )
 }
 
-_POINT = re.compile(r"^(rds_on_mohm|hfe_min|vce_sat_mv|price)@(.*)$")
+_POINT = re.compile(r"^(rds_on_mohm|hfe_min|vce_sat_mv|qg_nc|price)@(.*)$")
 _CONDITION = re.compile(r"^([+-]?)(\d+(?:\.\d*)?|\.\d+)(?:e([+-]?\d+))?\s*(v|ma|ua|a|k)?$")
 _CURRENT_EXP = {"a": 3, "ma": 0, "ua": -3}  # power of ten to mA
 
 
 MAX_CONDITION = Decimal(10) ** 12  # a point column's condition: 1e-12..1e12 (V, mA, parts)
 _EXAMPLE = {"rds_on_mohm": "rds_on_mohm@2.5V", "hfe_min": "hfe_min@1mA",
-            "vce_sat_mv": "vce_sat_mV@10mA", "price": "price@1000"}
+            "vce_sat_mv": "vce_sat_mV@10mA", "qg_nc": "qg_nC@4.5V", "price": "price@1000"}
 
 
 def _clip(text: str, length: int = 60) -> str:
@@ -141,10 +142,11 @@ def canonical(header: str) -> str | None:
     if value and not 1 / MAX_CONDITION <= abs(value) <= MAX_CONDITION:
         raise HeaderProblem(f"'{_clip(header)}': the condition is out of range; write e.g. "
                             f"{_EXAMPLE[family]}")
-    if family == "rds_on_mohm":
+    if family in ("rds_on_mohm", "qg_nc"):
+        name = "rds_on_mohm" if family == "rds_on_mohm" else "qg_nC"
         if value is None or c.group(4) not in ("v", None) or value == 0:
-            raise HeaderProblem(f"'{header}': the gate drive must be a voltage, e.g. rds_on_mohm@2.5V")
-        return f"rds_on_mohm@{_plain(value)}V"
+            raise HeaderProblem(f"'{header}': the gate drive must be a voltage, e.g. {_EXAMPLE[family]}")
+        return f"{name}@{_plain(value)}V"
     if value is None or c.group(4) not in _CURRENT_EXP or value == 0:
         raise HeaderProblem(f"'{header}': the collector current must be a current, e.g. {family.replace('mv', 'mV')}@1mA")
     value = value.scaleb(_CURRENT_EXP[c.group(4)])
@@ -205,5 +207,5 @@ def short_header(name: str) -> str:
     if family is None:
         return name
     label = {"rds_on_mohm": "Rds mΩ", "hfe_min": "hFE", "vce_sat_mV": "Vce(sat) mV",
-             "price": "price"}[family.prefix]
+             "qg_nC": "Qg nC", "price": "price"}[family.prefix]
     return f"{label} @{name.split('@', 1)[1]}"

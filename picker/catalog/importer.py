@@ -89,7 +89,7 @@ PAIRS = {("vgs_th_min_V", "vgs_th_max_V")}
 # Which qualifier a quantity's catalogue column holds (upper limits, lower limits).
 HOLDS = {"rds_on": "max", "vce_sat": "max", "idss": "max", "icbo": "max", "hfe": "min",
          "vbe_on_V": "typ"}
-MOSFET_ONLY = ("vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_", "rds_on_mohm", "idss_")
+MOSFET_ONLY = ("vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_", "rds_on_mohm", "idss_", "qg_nC")
 BIPOLAR_ONLY = ("vceo_max_V", "ic_max_A", "hfe_min", "vce_sat_mV", "vbe_on_V", "icbo_")
 _UNIT_KEYS = ("V", "A", "ohm", "W", "degC", "C/W", "mV/C", "pct/C")
 

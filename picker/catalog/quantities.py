@@ -56,6 +56,8 @@ CAPACITANCE = Dimension("a capacitance", "F")
 CHARGE = Dimension("a charge (battery capacity)", "Ah")
 TEMPERATURE = Dimension("a temperature", "°C")
 THERMAL_RESISTANCE = Dimension("a thermal resistance", "°C/W")
+TIME = Dimension("a time", "s")
+ELECTRIC_CHARGE = Dimension("an electric charge", "C")  # a gate charge, in coulombs
 VOLTAGE_TC = Dimension("a voltage temperature coefficient", "V/°C")
 FRACTION_TC = Dimension("a relative temperature coefficient", "%/°C")
 NUMBER = Dimension("a plain number", "")
@@ -81,6 +83,7 @@ def _symbols() -> dict[str, Symbol]:
     add("Ω Ω ohm ohms Ohm Ohms OHM R", RESISTANCE)
     add("F", CAPACITANCE)
     add("Ah", CHARGE)
+    add("s", TIME)
     add("°C ºC degC deg°C C", TEMPERATURE, prefixable=False)
     add("°C/W ºC/W C/W K/W degC/W", THERMAL_RESISTANCE, prefixable=False)
     add("V/°C V/ºC V/C V/K V/degC", VOLTAGE_TC)
@@ -92,6 +95,9 @@ def _symbols() -> dict[str, Symbol]:
 
 
 SYMBOLS = _symbols()
+# Symbols with a second meaning, tried where the first does not fit the column:
+# 'C' is a temperature (as '45 C' is written) or, prefixed, a charge ('12 nC').
+ALTERNATE_SYMBOLS = {"C": Symbol(ELECTRIC_CHARGE, 0, True)}
 
 # The units a caller may ask for, as (dimension, power of ten from the base).
 UNITS: dict[str, tuple[Dimension, int]] = {
@@ -102,6 +108,8 @@ UNITS: dict[str, tuple[Dimension, int]] = {
     "F": (CAPACITANCE, 0),
     "Ah": (CHARGE, 0), "mAh": (CHARGE, -3),
     "degC": (TEMPERATURE, 0),
+    "s": (TIME, 0),
+    "nC": (ELECTRIC_CHARGE, -9),
     "C/W": (THERMAL_RESISTANCE, 0),
     "V/C": (VOLTAGE_TC, 0), "mV/C": (VOLTAGE_TC, -3),
     "1/C": (FRACTION_TC, 0), "pct/C": (FRACTION_TC, -2),
@@ -168,6 +176,10 @@ def _split_unit(rest: str, unit: str, text: str) -> int | None:
         candidates.append((SYMBOLS[rest], 0))
     if len(rest) > 1 and rest[0] in PREFIX_EXP and rest[1:] in SYMBOLS and SYMBOLS[rest[1:]].prefixable:
         candidates.append((SYMBOLS[rest[1:]], PREFIX_EXP[rest[0]]))
+    if rest in ALTERNATE_SYMBOLS:
+        candidates.append((ALTERNATE_SYMBOLS[rest], 0))
+    if len(rest) > 1 and rest[0] in PREFIX_EXP and rest[1:] in ALTERNATE_SYMBOLS:
+        candidates.append((ALTERNATE_SYMBOLS[rest[1:]], PREFIX_EXP[rest[0]]))
     if len(rest) > 1 and rest[0] == "K" and dim is RESISTANCE and rest[1:] in SYMBOLS:
         candidates.append((SYMBOLS[rest[1:]], 3))  # '10Kohm': capital K for kilo, common in BOMs
     for symbol, prefix_exp in candidates:

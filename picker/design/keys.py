@@ -17,10 +17,24 @@ TOP_KEYS = ("supply", "ambient", "build", "margins", "role")
 TABLE_KEYS = {"supply": ("min", "max", "capacity"), "ambient": ("min", "max"),
               "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin")}
 COMMON_KEYS = ("name", "refs", "use", "qty", "max_off_current")
-FAMILY_KEYS = {True: ("load", "max_drop", "gate_drive", "gate_drive_drop", "max_tj"),  # by is_pass_switch
-               False: ("collector_current", "base_drive", "base_resistor", "overdrive", "max_vce_sat")}
+FAMILY_KEYS = {True: ("load", "max_drop", "gate_drive", "gate_drive_drop", "max_tj",  # by is_pass_switch
+                      "gate_driver", "gate_pullup", "max_turn_off", "max_drive_current", "off_load"),
+               False: ("collector_current", "base_drive", "base_resistor", "overdrive", "max_vce_sat",
+                       "base_from", "base_pulldown")}
 ROLE_KEYS = COMMON_KEYS + FAMILY_KEYS[True] + FAMILY_KEYS[False]
+# (a gate driver takes its collector current from the pull-up: models/README.md §10)
 REQUIRED = {True: ("load", "max_drop"), False: ("collector_current", "base_resistor")}
+
+# Linked roles (models/README.md §10): keys naming another role, keys that may be "auto",
+# and keys that mean something only on a linked role.
+LINK_KEYS = {"gate_driver": (True, False), "base_from": (False, True)}  # key: (on a switch, names a switch)
+AUTO = "auto"
+AUTO_KEYS = ("gate_pullup", "base_resistor", "base_pulldown")
+NEEDS_DRIVER = ("gate_pullup", "max_turn_off", "max_drive_current")  # only with gate_driver
+# A switch's gate is pulled away from its source by a driver of the opposite rail:
+# a high-side P-channel gate down to ground by an NPN, a low-side N-channel gate up to
+# the supply by a PNP; a base fed from a switch's output likewise.
+DRIVER_OF = {"high-side-pmos": "npn-switch", "low-side-nmos": "pnp-switch"}
 
 # key: (field, unit, rule, example)
 QUANTITIES = {
@@ -34,6 +48,11 @@ QUANTITIES = {
     "base_resistor": ("base_resistor_ohm", "ohm", "positive", "68 kohm"),
     "overdrive": ("overdrive", "1", "at-least-1", "2"),
     "max_vce_sat": ("max_vce_sat_V", "V", "positive", "0.15 V"),
+    "base_pulldown": ("base_pulldown_ohm", "ohm", "positive", "1 Mohm"),
+    "gate_pullup": ("gate_pullup_ohm", "ohm", "positive", "470 kohm"),
+    "max_turn_off": ("max_turn_off_s", "s", "positive", "1 ms"),
+    "max_drive_current": ("max_drive_current_A", "A", "positive", "20 uA"),
+    "off_load": ("off_load_ohm", "ohm", "positive", "10 kohm"),
     "max_off_current": ("max_off_current_A", "A", "positive", "1 uA"),
     "derate_v": ("derate_v", "1", "fraction", "0.8"),
     "derate_i": ("derate_i", "1", "fraction", "0.5"),
@@ -49,6 +68,7 @@ RULES = {  # rule: (test the value must pass, what the message says otherwise)
     "fraction": (lambda x: 0 < x <= 1, "must be above 0 and at most 1 (0.8 uses a rating up to 80 %)"),
 }
 EXAMPLES = {"name": '"pass"', "refs": '["Q1"]', "use": '"high-side-pmos"', "volume": "5000",
+            "gate_driver": '"latch"', "base_from": '"pass"',
             "supply.min": '"3.0 V"', "supply.max": '"4.2 V"', "ambient.min": '"-20 degC"',
             "ambient.max": '"45 degC"', **{k: f'"{v[3]}"' for k, v in QUANTITIES.items()}}
 

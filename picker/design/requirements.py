@@ -23,7 +23,8 @@ import tomllib
 from dataclasses import dataclass
 
 from picker.catalog.quantities import format_quantity, parse_quantity, parse_range
-from picker.design.keys import (COMMON_KEYS, EXAMPLES, FAMILY_KEYS, KIND_OF_USE,
+from picker.design.keys import (AUTO, AUTO_KEYS, COMMON_KEYS, DRIVER_OF, EXAMPLES, FAMILY_KEYS,
+                                KIND_OF_USE, LINK_KEYS, NEEDS_DRIVER,
                                 MAX_FILE_BYTES, MAX_MAGNITUDE, MAX_QTY, MAX_REFS, MAX_ROLES,
                                 MAX_VOLUME, OPTION_KEYS, PASS_USES, QUANTITIES, QUICK_AMBIENT_C,
                                 QUICK_REFS, QUICK_SUPPLY_V, QUICK_VOLUME, REQUIRED, ROLE_KEYS,
@@ -64,10 +65,18 @@ class Role:
     max_tj_C: float | None = None
     collector_current_A: float | None = None  # saturated switches (npn-switch, pnp-switch)
     base_drive_V: float | None = None         # None means "supply"
-    base_resistor_ohm: float | None = None
+    base_resistor_ohm: float | str | None = None  # a value, or "auto" (models/README.md §10)
     overdrive: float = 2.0
     max_vce_sat_V: float | None = None
+    base_pulldown_ohm: float | str | None = None  # base to emitter; a value or "auto"
     max_off_current_A: float | None = None    # both
+    # Linked roles (models/README.md §10)
+    gate_driver: str | None = None            # a pass switch: the role whose transistor pulls its gate
+    gate_pullup_ohm: float | str | None = None  # holds the gate at its source; a value or "auto"
+    max_turn_off_s: float | None = None
+    max_drive_current_A: float | None = None
+    off_load_ohm: float | None = None         # the load's resistance while off; None: open
+    base_from: str | None = None              # a switch: the pass switch whose output feeds its base
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "refs", tuple(self.refs))
@@ -86,6 +95,10 @@ class Role:
     def parts_per_board(self) -> int:
         return self.qty if self.qty is not None else len(self.refs)
 
+    @property
+    def is_linked(self) -> bool:
+        return self.gate_driver is not None or self.base_from is not None
+
 
 @dataclass(frozen=True)
 class Requirements:
@@ -95,6 +108,14 @@ class Requirements:
     margins: Margins
     roles: tuple[Role, ...]
     source: str = ""  # the file path, or "command line"
+
+    def driver_of(self, switch: Role) -> Role | None:
+        """The role whose transistor pulls `switch`'s gate (models/README.md §10), if any."""
+        return None if switch.gate_driver is None else self.role(switch.gate_driver)
+
+    def driven_by(self, driver: Role) -> Role | None:
+        """The pass switch whose gate `driver` pulls, if any."""
+        return next((r for r in self.roles if r.gate_driver == driver.name), None)
 
     def role(self, name: str) -> Role:
         for r in self.roles:
@@ -196,8 +217,10 @@ def _build(doc: dict, where, source: str) -> Requirements:
         where.fail(("role", MAX_ROLES), f"more than {MAX_ROLES} roles; split the design into several files")
     built: list[Role] = []
     owner: dict[str, str] = {}  # ref (upper case) -> role name
+    drivers = frozenset(r["gate_driver"].strip() for r in roles  # named as some gate's driver
+                        if isinstance(r.get("gate_driver"), str))
     for i, raw in enumerate(roles):
-        role = _role(where, i, raw)
+        role = _role(where, i, raw, drivers)
         if any(other.name.casefold() == role.name.casefold() for other in built):
             where.fail(("role", i, "name"), f"'{role.name}' names two roles; give each its own name")
         for ref in role.refs:
@@ -206,10 +229,76 @@ def _build(doc: dict, where, source: str) -> Requirements:
                                                 f"'{role.name}'; a part belongs to one role")
             owner[ref.upper()] = role.name
         built.append(role)
+    _links(where, built)
     return Requirements(supply, ambient, volume, margins, tuple(built), source)
 
 
-def _role(where, i: int, raw: dict) -> Role:
+def _links(where, roles: list[Role]) -> None:
+    """The links between roles (models/README.md §10): each names a role of the
+    right family, a driver pulls one gate and takes its collector current from the
+    pull-up, and the only loop is the latch pair (a driver fed from its own switch)."""
+    index = {r.name: i for i, r in enumerate(roles)}
+    names = list(index)
+    target = {}  # role name -> the role its link names
+    for i, r in enumerate(roles):
+        for key, (on_switch, names_switch) in LINK_KEYS.items():
+            name = getattr(r, key)
+            if name is None:
+                continue
+            other = next((o for o in roles if o.name == name), None)
+            if other is None:
+                close = _closest(name, [n for n in names if n != r.name])
+                tip = f"did you mean {_or(close)}?" if close else f"the roles are {', '.join(names[:20])}"
+                where.fail(("role", i, key), f"no role named '{name}'; {tip}")
+            if other.is_pass_switch != names_switch:
+                want = " or ".join(u for u in USES if (u in PASS_USES) == names_switch)
+                where.fail(("role", i, key), f"'{name}' is {_a(other.use)} role; {key} names "
+                                             f"{'a' if names_switch else 'an'} {want} role")
+            switch, bipolar = (other, r) if names_switch else (r, other)
+            if bipolar.use != DRIVER_OF[switch.use]:
+                pair = (f"the gate of {_a(switch.use)} is pulled by {_a(DRIVER_OF[switch.use])}"
+                        if key == "gate_driver" else
+                        f"{_a(bipolar.use)}'s base is fed from "
+                        f"{_a(next(u for u, d in DRIVER_OF.items() if d == bipolar.use))}")
+                where.fail(("role", i, key), f"{pair}; '{name}' is {_a(other.use)} role")
+            target[r.name] = name
+    drivers = {}
+    for i, r in enumerate(roles):
+        if r.gate_driver is None:
+            continue
+        if r.gate_driver in drivers:
+            where.fail(("role", i, "gate_driver"), f"'{r.gate_driver}' already drives the gate of "
+                                                   f"'{drivers[r.gate_driver]}'; give each switch its own driver role")
+        drivers[r.gate_driver] = r.name
+    for i, r in enumerate(roles):  # loops: every role has one link at most, so follow it
+        path, at = [r.name], target.get(r.name)
+        while at is not None and at not in path:
+            path.append(at)
+            at = target.get(at)
+        if at == r.name and len(path) > 2:
+            loop = " -> ".join(path + [r.name])
+            where.fail(("role", i, "gate_driver" if roles[i].is_pass_switch else "base_from"),
+                       f"the links make a loop ({loop}); only a latch pair may loop: a switch's "
+                       "gate driver fed from that switch's output")
+    for i, r in enumerate(roles):
+        if r.is_pass_switch:
+            if r.off_load_ohm is not None and not any(o.base_from == r.name for o in roles):
+                where.fail(("role", i, "off_load"), "is used where a role's base_from names this "
+                                                    "switch (the latch_off check); no role does")
+            continue
+        if r.name in drivers and r.collector_current_A is not None:
+            where.fail(("role", i, "collector_current"),
+                       f"'{r.name}' drives the gate of '{drivers[r.name]}' and takes its collector "
+                       "current from the gate pull-up; remove this key")
+        if r.name not in drivers and r.collector_current_A is None:
+            where.missing(("role", i), "collector_current", f" for {_a(r.use)} role that drives no gate")
+        if r.name in drivers and r.base_from not in (None, drivers[r.name]):
+            where.fail(("role", i, "base_from"),
+                       f"'{r.name}' drives the gate of '{drivers[r.name]}' and is fed from "
+                       f"'{r.base_from}': a gate driver may be fed from its own switch only (the latch pair)")
+
+
+def _role(where, i: int, raw: dict, drivers: frozenset = frozenset()) -> Role:
     here = ("role", i)
     use = raw.get("use") if raw.get("use") in USES else None
     allowed = COMMON_KEYS + FAMILY_KEYS[use in PASS_USES] if use else ROLE_KEYS
@@ -248,12 +337,46 @@ def _role(where, i: int, raw: dict) -> Role:
             others = " and ".join(u for u in USES if (u in PASS_USES) != is_pass)
             where.fail((*here, key), f"not used by {_a(use)} role; it is for {others} roles")
     for key in REQUIRED[is_pass]:
-        if key not in raw:
+        if key not in raw and not (key == "collector_current" and drivers):  # see _links
             where.missing(here, key, f" for {_a(use)} role")
-    values = {QUANTITIES[k][0]: _quantity(where, (*here, k), v, *QUANTITIES[k][1:])
+    _link_keys(where, here, raw, is_pass)
+    values = {QUANTITIES[k][0]: AUTO if _is_auto(v) and k in AUTO_KEYS
+              else _quantity(where, (*here, k), v, *QUANTITIES[k][1:])
               for k, v in raw.items() if k in QUANTITIES}
+    links = {k: raw[k].strip() for k in LINK_KEYS if k in raw}
     qty = _count(where, (*here, "qty"), raw["qty"], MAX_QTY) if "qty" in raw else None
-    return Role(name=name.strip(), refs=refs, use=use, qty=qty, **values)
+    return Role(name=name.strip(), refs=refs, use=use, qty=qty, **values, **links)
+
+
+def _is_auto(value) -> bool:
+    return isinstance(value, str) and value.strip().lower() == AUTO
+
+
+def _link_keys(where, here: tuple, raw: dict, is_pass: bool) -> None:
+    """The keys of models/README.md §10 that one role can be checked for alone."""
+    for key in LINK_KEYS:
+        if key in raw and (not isinstance(raw[key], str) or not raw[key].strip()):
+            where.fail((*here, key), f"must name another role, e.g. {key} = {EXAMPLES[key]}")
+    if is_pass:
+        if "gate_driver" in raw:
+            for key in ("gate_drive", "gate_drive_drop"):
+                if key in raw:
+                    where.fail((*here, key), "the gate driver's Vce(sat) sets the gate drive of a "
+                                             "switch with a gate_driver; remove this key")
+            if "gate_pullup" not in raw:
+                where.missing(here, "gate_pullup", " with gate_driver (a value, or \"auto\")")
+        else:
+            for key in NEEDS_DRIVER:
+                if key in raw:
+                    where.fail((*here, key), "needs gate_driver: the role whose transistor pulls "
+                                             f"this gate, e.g. gate_driver = {EXAMPLES['gate_driver']}")
+    else:
+        if "base_from" in raw and "base_drive" in raw:
+            where.fail((*here, "base_drive"), "the switch's output drives the base of a role with "
+                                              "base_from; remove this key")
+        if _is_auto(raw.get("base_pulldown")) and "base_from" not in raw:
+            where.fail((*here, "base_pulldown"), '"auto" is chosen against the leakage of the switch '
+                                                 "that feeds the base: it needs base_from")
 
 
 # -- public entry points -----------------------------------------------------------------------
@@ -321,8 +444,15 @@ def _doc_of(req: Requirements) -> dict:
     def role(r: Role) -> dict:
         raw = {"name": r.name, "refs": list(r.refs), "use": r.use, "qty": r.qty}
         for key in ("max_off_current",) + FAMILY_KEYS[r.is_pass_switch]:
+            if key in LINK_KEYS:
+                raw[key] = getattr(r, key)
+                continue
             field, _, rule, _ = QUANTITIES[key]
             raw[key] = "supply" if rule == "drive" and getattr(r, field) is None else getattr(r, field)
+        if r.gate_driver is not None:  # its gate drive comes from the driver
+            raw.pop("gate_drive"), raw.pop("gate_drive_drop")
+        if r.base_from is not None:
+            raw.pop("base_drive")
         return {k: v for k, v in raw.items() if v is not None}
 
     s, a, m = req.supply, req.ambient, req.margins

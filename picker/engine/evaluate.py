@@ -123,6 +123,7 @@ def evaluate(catalog_df: pd.DataFrame, req: Requirements) -> DesignResult:
 
 def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> RoleResult:
     """All catalogue parts of the role's kind: figures, checks, notes, rank."""
+    _refuse_linked(role, req)
     mask = (catalog_df["kind"] == role.kind).to_numpy(dtype=bool)
     parts = PartData(catalog_df, rows=None if mask.all() else np.flatnonzero(mask))
     checks, figures = role_checks(role)
@@ -136,6 +137,23 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     frame = pd.DataFrame(out, index=parts.index, copy=len(parts) < 100_000)
     order = rank(frame, role)
     return RoleResult(role, frame, order, checks, figures, catalog_df)
+
+
+def _refuse_linked(role: Role, req: Requirements) -> None:
+    """Linked roles and "auto" resistors are read and checked (design.requirements)
+    but not evaluated by this engine yet: say so, rather than give figures that
+    leave the links out."""
+    from picker.errors import RequirementError
+
+    keys = [k for k, v in (("gate_driver", role.gate_driver), ("base_from", role.base_from),
+                           ("base_pulldown", role.base_pulldown_ohm)) if v is not None]
+    keys += ["base_resistor"] if role.base_resistor_ohm == "auto" else []
+    if keys or (not role.is_pass_switch and role.collector_current_A is None):
+        raise RequirementError(f"role '{role.name}': {', '.join(keys) or 'a gate driver'} "
+                               "(models/README.md §10) cannot be evaluated by this version of "
+                               "picker yet; give gate_drive_drop, collector_current and "
+                               "base_resistor values instead",
+                               file=req.source if req.source not in ("", "command line") else None)
 
 
 def role_checks(role: Role) -> tuple[tuple[str, ...], tuple[str, ...]]:

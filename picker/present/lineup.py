@@ -49,7 +49,8 @@ _DATASHEET = {
 }
 _FAMILY = {  # prefix: (label, better)
     "rds_on_mohm": ("Rds(on) max @ {c} V", LOW), "hfe_min": ("hFE min @ {c} mA", HIGH),
-    "vce_sat_mV": ("Vce(sat) max @ {c} mA", LOW), "price": ("price @ {c}", LOW),
+    "vce_sat_mV": ("Vce(sat) max @ {c} mA", LOW), "qg_nC": ("Qg @ {c} V", LOW),
+    "price": ("price @ {c}", LOW),
 }
 _TEXT = ("maker", "kind", "package", "status", "preferred")
 
