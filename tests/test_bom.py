@@ -178,12 +178,16 @@ def test_refs_expand(text, refs, problems):
 @pytest.mark.parametrize("header, expected", [
     (["Item", "Qty", "Ref Des", "Manufacturer", "MPN", "Description", "Unit Price"],
      {"qty": 1, "refs": 2, "maker": 3, "part": 4, "description": 5, "price": 6}),
-    (["Designator", "Quantity", "Manufacturer Part Number", "Mfr.", "Comment"],
+    (["Reference designators", "Quantity", "Manufacturer part number", "Maker", "Description"],
      {"refs": 0, "qty": 1, "part": 2, "maker": 3, "description": 4}),
-    (["Reference", "QTY", "Mfr. Part #", "Manufactuer", "Unit Price (USD)"],  # a typo too
+    (["Reference", "QTY", "Part #", "Manufactuer", "Unit Price (USD)"],  # a typo too
+     {"refs": 0, "qty": 1, "part": 2, "maker": 3, "price": 4}),
+    (["Refs", "Qty", "Part No.", "Make", "Price each"],
      {"refs": 0, "qty": 1, "part": 2, "maker": 3, "price": 4}),
     (["Part", "MPN", "Refs", "Count"], {"part": 1, "refs": 2, "qty": 3}),  # MPN beats Part
     (["Pos", "Anzahl", "Bauteil"], {}),
+    # one tool's own column names are not guessed: --column names them
+    (["Designator", "Quantity", "Part number", "Comment"], {"qty": 1, "part": 2}),
 ])
 def test_header_fuzzy_matching(header, expected):
     assert map_header(header) == expected

@@ -172,7 +172,7 @@ def test_review_csv(start, tmp_path):
 @pytest.mark.parametrize("start", STARTS, ids=IDS)
 def test_import_report_csv(start, tmp_path):
     raw = tmp_path / "raw.csv"
-    raw.write_text(f'Part Number,Polarity,"{start}Stock"\nNEW-1,NPN,"{start}1"\n', encoding="utf-8")
+    raw.write_text(f'Part Number,Polarity,"{start}Shelf"\nNEW-1,NPN,"{start}1"\n', encoding="utf-8")
     cat = tmp_path / "cat.csv"
     cat.write_text(TINY_CSV, encoding="utf-8")
     result = invoke("catalog", "import", str(raw), "--into", str(cat), "--dry-run",

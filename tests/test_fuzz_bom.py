@@ -27,7 +27,8 @@ SEEDS = [EXAMPLES.joinpath("kettlewick-bom.csv").read_bytes()] + [
     p.read_bytes() for p in sorted((ROOT / "tests" / "data" / "review").glob("*.csv"))
     if p.name != "cost-catalogue.csv"]
 HEADERS = [["Ref", "Qty", "MPN", "Manufacturer", "Description", "Unit Price"],
-           ["Designator", "Quantity", "Part Number"], ["Item", "Qty", "Ref Des", "Mfr", "MPN"]]
+           ["Reference designators", "Quantity", "Part number"],
+           ["Item", "Qty", "Ref Des", "Maker", "MPN"]]
 
 
 def _read(data: bytes):

@@ -4,7 +4,7 @@ our errors naming the file; never another exception; and nothing is written
 (the merge is planned and checked, never applied here: see test_safe_io.py
 for the writes).
 
-Inputs: random and mutated mapping TOML; the two suppliers' tables under
+Inputs: random and mutated mapping TOML; the two makers' tables under
 tests/data/import with up to four edits each; random headers and cells;
 saved mappings of random headers read back (the --save-map round trip)."""
 
@@ -29,17 +29,18 @@ RAW = "fuzz/raw.csv"
 RAW_PATHS = sorted((ROOT / "tests" / "data" / "import").glob("*.csv"))
 RAW_SEEDS = [p.read_bytes() for p in RAW_PATHS]
 MAP_SEEDS = [
-    b'[columns]\n"Mfr Part #" = "part"\n"RDS(on) (m\xce\xa9)" = "rds_on_mohm@4.5V"\n'
-    b'"Vgs(th) min/max" = "vgs_th_min_V..vgs_th_max_V"\n"Stock" = ""\n',
-    b'[columns]\n"RDS(on) max @ VGS=-2.5V (\xce\xa9)" = { column = "rds_on_mohm@2.5V", '
+    b'[columns]\n"Type number" = "part"\n"RDS(on) (m\xce\xa9)" = "rds_on_mohm@4.5V"\n'
+    b'"Vth window" = "vgs_th_min_V..vgs_th_max_V"\n"Reel colour" = ""\n',
+    b'[columns]\n"Ron2V5 (\xce\xa9)" = { column = "rds_on_mohm@2.5V", '
     b'unit = "\xce\xa9" }\n"Case" = "package"\n',
 ]
-HEADERS = ["Part Number", "Mfr Part #", "Manufacturer", "Channel Type", "Polarity",
-           "RDS(on) max @ VGS=-4.5V (Ω)", "Rds(on) @ 1.8V [mΩ]", "Vgs(th) min/max",
-           "VGS(th) typ (V)", "IDSS (µA)", "ICBO @ TA=150°C (µA)", "hFE min @ Ic=1mA",
-           "VCE(sat) @ IC=100mA, IB=10mA (mV)", "Price @ 1000 pcs", "Unit Price (1k)",
-           "Tj max (°C)", "Rth(j-a) K/W", "Pd (W)", "Lifecycle Status", "Stock", "Case",
-           "V(BR)CEO (V)", "Ic (mA)", "Remarks", "", "part", "kind", "price@100"]
+HEADERS = ["Part number", "Type number", "Manufacturer", "Channel", "Polarity",
+           "RDS(on) max at VGS = -4.5 V (Ω)", "Rds(on) @ 1.8V [mΩ]", "VGS(th) min and max",
+           "VGS(th) typ (V)", "IDSS (µA)", "ICBO at TA = 150 °C (µA)", "hFE min @ Ic=1mA",
+           "VCE(sat) @ IC=100mA, IB=10mA (mV)", "Price @ 1000 pcs", "Unit price at 1k",
+           "Tj max (°C)", "Rth(j-a) K/W", "Ptot (W)", "Lifecycle status", "Datasheet revision",
+           "Case", "V(BR)CEO (V)", "IC (mA)", "Remarks", "Ron2V5 (mΩ)", "", "part", "kind",
+           "price@100"]
 header_text = st.one_of(st.sampled_from(HEADERS), nasty_cell,
                         st.text(alphabet=st.sampled_from(list("RDSonVgthICBOµΩmA()[]@=., -25")),
                                 max_size=25))
@@ -165,11 +166,11 @@ def test_mapping_right_hand_sides(column, unit):
 def test_regression_saved_mapping_with_a_repeated_header(tmp_path):
     """A raw table with two 'Part Number' columns was saved with the key twice,
     which TOML forbids: the next --map failed. Each header is written once."""
-    matches = propose_mapping(["Part Number", "Part Number", "part  number", "Case"])
+    matches = propose_mapping(["Part number", "Part number", "part  number", "Case"])
     path = tmp_path / "saved.toml"
     path.write_text(mapping_toml(matches, "raw.csv"), encoding="utf-8")
     again = load_mapping(str(path))
-    assert {k: t and t.name for k, t in again.items()} == {"Part Number": "part",
+    assert {k: t and t.name for k, t in again.items()} == {"Part number": "part",
                                                            "Case": "package"}
 
 
@@ -177,10 +178,10 @@ def test_regression_saved_mapping_with_line_breaks_in_comments(tmp_path):
     """A raw file name or a note holding a line break broke the comment it was
     written in (the rest of the line became TOML, or a control character made
     the file invalid)."""
-    matches = propose_mapping(["Part Number", "Part\rNumber", "Case"])
+    matches = propose_mapping(["Part number", "Part\rnumber", "Case"])
     path = tmp_path / "saved.toml"
     path.write_text(mapping_toml(matches, "raw\nx = 1.csv"), encoding="utf-8")
-    assert load_mapping(str(path))["Part Number"].name == "part"
+    assert load_mapping(str(path))["Part number"].name == "part"
 
 
 def test_regression_point_conditions_out_of_range():

@@ -16,10 +16,11 @@ from __future__ import annotations
 import csv
 import io
 import re
+import subprocess
 
 import pytest
 
-from conftest import EXAMPLES
+from conftest import EXAMPLES, ROOT
 
 # -- the shapes ----------------------------------------------------------------------------
 
@@ -127,3 +128,145 @@ def test_the_example_bom_is_in_our_own_words():
         assert not [n for n, p in DESCRIPTION_SHAPES.items() if p.search(text)], text
     # written the way colleagues write them: not one fixed template
     assert len({d.split()[0].strip(",:").lower() for d in descriptions}) >= 15
+
+
+# -- the vocabularies: every entry with its source -------------------------------------------
+# Sources, all from memory (the standards' texts are not in the repository):
+IEC8 = "IEC 60747-8 (field-effect transistors): parameter name or letter symbol"
+IEC7 = "IEC 60747-7 (bipolar transistors): parameter name or letter symbol"
+IEC = "IEC 60747 (discrete devices, general): parameter name or letter symbol"
+JEDEC = "JEDEC JESD77 letter symbol or term (the number from memory)"
+OUTLINE = "JEDEC outline registration (JEP95): package or case outline"
+IEEE315 = "IEEE 315 / ASME Y14.44: reference designator"
+TRADE = "the trade's abbreviation (common practice)"
+PLAIN = "plain English"
+
+IMPORT_VOCABULARY = {
+    "part": {"part": PLAIN, "part number": PLAIN, "part no": PLAIN,
+             "manufacturer part number": PLAIN, "type number": JEDEC, "type designation": IEC,
+             "ordering code": PLAIN, "device": PLAIN},
+    "maker": {"manufacturer": PLAIN, "maker": PLAIN, "manufacturer name": PLAIN, "make": PLAIN,
+              "brand": PLAIN},
+    "kind": {"channel": IEC8, "channel type": PLAIN, "polarity": PLAIN, "type": PLAIN,
+             "transistor type": PLAIN},
+    "package": {"package": PLAIN, "case": PLAIN, "outline": OUTLINE, "package outline": OUTLINE,
+                "case outline": OUTLINE},
+    "status": {"status": PLAIN, "lifecycle": PLAIN, "lifecycle status": PLAIN},
+    "notes": {"notes": PLAIN, "note": PLAIN, "remarks": PLAIN, "remark": PLAIN, "comment": PLAIN,
+              "comments": PLAIN},
+    "vds_max_V": {"vds": JEDEC, "vdss": IEC8, "v br dss": JEDEC, "drain source voltage": IEC8,
+                  "drain source breakdown voltage": JEDEC},
+    "vgs_max_V": {"vgs": JEDEC, "vgss": IEC8, "gate source voltage": IEC8},
+    "id_max_A": {"id": JEDEC, "drain current": IEC8, "continuous drain current": PLAIN},
+    "vgs_th": {"vgs th": JEDEC, "gate source threshold voltage": IEC8,
+               "gate threshold voltage": PLAIN, "threshold voltage": PLAIN},
+    "rds_on": {"rds on": JEDEC, "drain source on state resistance": IEC8,
+               "static drain source on state resistance": JEDEC,
+               "drain source on resistance": PLAIN, "on state resistance": IEC8,
+               "on resistance": PLAIN},
+    "idss": {"idss": JEDEC, "zero gate voltage drain current": JEDEC,
+             "drain cut off current": IEC8, "drain leakage current": PLAIN},
+    "vceo_max_V": {"vceo": IEC7, "v br ceo": JEDEC, "collector emitter voltage": IEC7,
+                   "collector emitter breakdown voltage": JEDEC},
+    "ic_max_A": {"ic": JEDEC, "collector current": IEC7, "continuous collector current": PLAIN},
+    "hfe": {"hfe": JEDEC, "h21e": IEC7, "static forward current transfer ratio": IEC7,
+            "dc current gain": PLAIN, "current gain": PLAIN},
+    "vce_sat": {"vce sat": JEDEC, "collector emitter saturation voltage": IEC7,
+                "saturation voltage": PLAIN},
+    "vbe_on_V": {"vbe": JEDEC, "vbe on": JEDEC, "base emitter voltage": IEC7,
+                 "base emitter on voltage": PLAIN},
+    "icbo": {"icbo": JEDEC, "collector cut off current": IEC7,
+             "collector base cut off current": PLAIN, "collector leakage current": PLAIN},
+    "rth_ja_C/W": {"rth j a": IEC, "r theta ja": JEDEC,
+                   "thermal resistance junction to ambient": IEC, "thermal resistance": PLAIN},
+    "tj_max_C": {"tj": IEC, "junction temperature": IEC, "operating junction temperature": PLAIN},
+    "price": {"price": PLAIN, "unit price": PLAIN, "cost": PLAIN, "unit cost": PLAIN},
+    "vgs_th_tc_mV/C": {"threshold temperature coefficient": PLAIN,
+                       "gate threshold voltage temperature coefficient": PLAIN},
+    "rds_tc_pct/C": {"on resistance temperature coefficient": PLAIN,
+                     "on state resistance temperature coefficient": PLAIN},
+    "_pd": {"pd": JEDEC, "ptot": IEC, "power dissipation": PLAIN, "total power dissipation": IEC},
+    "_other": {"rth j c": IEC, "r theta jc": JEDEC, "thermal resistance junction to case": IEC,
+               "vcbo": IEC7, "vebo": IEC7, "iceo": IEC7, "iebo": IEC7, "igss": IEC8,
+               "gate leakage current": PLAIN, "vgs off": IEC8, "qg": JEDEC,
+               "gate charge": PLAIN, "total gate charge": IEC8, "ciss": IEC8,
+               "input capacitance": IEC8, "coss": IEC8, "output capacitance": IEC8,
+               "crss": IEC8, "reverse transfer capacitance": IEC8, "td on": IEC, "td off": IEC,
+               "rise time": IEC, "fall time": IEC, "ft": IEC7, "transition frequency": IEC7,
+               "vsd": IEC8, "source drain voltage": IEC8, "diode forward voltage": PLAIN,
+               "idm": IEC8, "peak drain current": IEC8, "icm": IEC7,
+               "peak collector current": IEC7, "description": PLAIN, "datasheet": PLAIN},
+}
+BOM_VOCABULARY = {
+    "refs": {"reference designators": IEEE315, "reference designator": IEEE315,
+             "refdes": TRADE, "ref des": TRADE, "refs": TRADE, "ref": TRADE,
+             "references": PLAIN, "reference": PLAIN},
+    "qty": {"qty": TRADE, "quantity": PLAIN, "qty per board": TRADE,
+            "quantity per board": PLAIN, "qty per assembly": TRADE,
+            "quantity per assembly": PLAIN, "count": PLAIN},
+    "part": {"mpn": TRADE, "manufacturer part number": PLAIN, "part number": PLAIN,
+             "part no": PLAIN, "part": PLAIN},
+    "description": {"description": PLAIN, "desc": PLAIN, "part description": PLAIN},
+    "maker": {"manufacturer": PLAIN, "maker": PLAIN, "manufacturer name": PLAIN, "make": PLAIN,
+              "brand": PLAIN},
+    "price": {"unit price": PLAIN, "price": PLAIN, "unit cost": PLAIN, "price each": PLAIN,
+              "cost each": PLAIN, "cost": PLAIN},
+}
+# Words no entry may hold: a supplier's columns (availability, mounting, its own
+# package column), its abbreviations of 'manufacturer' and the '#' after 'part'.
+NOT_OURS = re.compile(r"\b(?:supplier|mounting|stock|available|availability|mfr|mfg|vendor|"
+                      r"series|rohs)\b|[#/]")
+
+
+@pytest.mark.parametrize("name, vocabulary, listed", [
+    ("import", "picker.catalog.importer:VOCABULARY", IMPORT_VOCABULARY),
+    ("bom", "picker.review.bom:FIELDS", BOM_VOCABULARY)])
+def test_every_vocabulary_entry_has_a_source(name, vocabulary, listed):
+    """The code's vocabulary is exactly the list above, entry by entry: a new
+    spelling needs its source here, and a supplier's spelling has none."""
+    import importlib
+
+    module, _, attribute = vocabulary.partition(":")
+    table = getattr(importlib.import_module(module), attribute)
+    assert set(table) == set(listed)
+    for quantity, spellings in table.items():
+        assert len(set(spellings)) == len(spellings), quantity
+        assert set(spellings) == set(listed[quantity]), (quantity, set(spellings) ^ set(listed[quantity]))
+        for s in spellings:
+            assert not NOT_OURS.search(s), (quantity, s)
+            assert s == " ".join(s.split()) and s == s.lower(), (quantity, s)
+    sources = {src for entries in listed.values() for src in entries.values()}
+    assert sources <= {IEC8, IEC7, IEC, JEDEC, OUTLINE, IEEE315, TRADE, PLAIN}
+    if name == "import":  # the import reads standards' names and plain English only
+        assert TRADE not in sources and IEEE315 not in sources
+
+
+def _repository_files() -> list:
+    """Every file git tracks (a clean clone holds exactly these), else every
+    file under the root outside hidden folders, the virtual environment and caches."""
+    try:
+        listed = subprocess.run(["git", "ls-files", "-z"], cwd=ROOT, capture_output=True,
+                                check=True, timeout=60).stdout.split(b"\0")
+        files = [ROOT / name.decode() for name in listed if name]
+    except (OSError, subprocess.SubprocessError):
+        files = [p for p in ROOT.rglob("*") if p.is_file() and not any(
+            part.startswith(".") or part.endswith(".egg-info") or part == "__pycache__"
+            for part in p.relative_to(ROOT).parts[:-1])]
+    for extra in (ROOT / "tests" / "test_own_words.py",):  # this file, tracked or not yet
+        if extra not in files:
+            files.append(extra)
+    return [p for p in files if p.is_file()]
+
+
+def test_no_file_of_the_repository_uses_the_house_syntax_or_supplier_headers():
+    found = []
+    for path in _repository_files():
+        data = path.read_bytes()
+        if b"\0" in data:
+            continue  # not a text file
+        text = data.decode("utf-8", errors="replace")
+        for name, pattern in ALL_SHAPES.items():
+            for m in pattern.finditer(text):
+                line = text.count("\n", 0, m.start()) + 1
+                found.append(f"{path.relative_to(ROOT)}:{line}: {name}: {m.group()!r}")
+    assert not found, "\n".join(found)

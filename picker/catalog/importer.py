@@ -27,57 +27,61 @@ MAP_AT = 80.0  # a header scoring below this is left unmapped and listed
 MAX_MAPPING_BYTES = 1_000_000  # a mapping file's bound, as a requirement file's
 
 # -- the vocabulary ---------------------------------------------------------
-# Spellings of the trade (lower case, punctuation as spaces), by quantity.
+# What the trade and the open standards call each quantity, and nothing else:
+# the parameter names and letter symbols of IEC 60747-8 (field-effect
+# transistors) and IEC 60747-7 (bipolar transistors), the letter symbols of
+# JEDEC JESD77 (terms and letter symbols for discrete semiconductors; the
+# number from memory), and plain English. Written in lower case, punctuation
+# as spaces, as `_split_header` leaves a header ('V(BR)DSS' -> 'v br dss',
+# 'RθJA' -> 'rthja'). A supplier's own spellings are not here: a table that
+# uses them is read with a mapping file (--map). tests/test_own_words.py lists
+# every entry with its source.
 # A key starting with '_' is a quantity the catalogue has no column for: a
 # header matching it best is listed as left out, with the reason.
 VOCABULARY: dict[str, tuple[str, ...]] = {
-    "part": ("part", "part number", "part no", "mfr part", "mfr part no", "mfr part number",
-             "manufacturer part number", "mfg part number", "mpn", "device", "type number",
-             "ordering code", "product", "part name", "order number"),
-    "maker": ("manufacturer", "mfr", "mfg", "maker", "brand", "make", "manufacturer name",
-              "vendor"),
-    "kind": ("channel type", "polarity", "transistor type", "fet type", "channel",
-             "transistor polarity", "type", "channel polarity"),
-    "package": ("package", "package case", "case", "outline", "supplier device package",
-                "package type", "case style", "case package"),
-    "status": ("status", "part status", "lifecycle", "lifecycle status", "product status",
-               "life cycle"),
+    "part": ("part", "part number", "part no", "manufacturer part number", "type number",
+             "type designation", "ordering code", "device"),
+    "maker": ("manufacturer", "maker", "manufacturer name", "make", "brand"),
+    "kind": ("channel", "channel type", "polarity", "type", "transistor type"),
+    "package": ("package", "case", "outline", "package outline", "case outline"),
+    "status": ("status", "lifecycle", "lifecycle status"),
     "notes": ("notes", "note", "remarks", "remark", "comment", "comments"),
-    "vds_max_V": ("vds", "vdss", "drain source voltage", "drain to source voltage", "v br dss",
-                  "bvdss", "drain source breakdown voltage", "vds max"),
-    "vgs_max_V": ("vgs", "vgss", "gate source voltage", "gate to source voltage"),
-    "id_max_A": ("id", "drain current", "continuous drain current", "id cont",
-                 "id continuous", "current continuous drain", "drain current continuous"),
-    "vgs_th": ("vgs th", "vth", "gate threshold voltage", "threshold voltage", "v gs th",
-               "gate source threshold voltage", "vgs threshold"),
-    "rds_on": ("rds on", "rdson", "on resistance", "drain source on resistance",
-               "static drain source on resistance", "on state resistance"),
-    "idss": ("idss", "zero gate voltage drain current", "drain leakage current",
-             "drain leakage", "drain cutoff current"),
-    "vceo_max_V": ("vceo", "vce", "collector emitter voltage", "v br ceo",
+    "vds_max_V": ("vds", "vdss", "v br dss", "drain source voltage",
+                  "drain source breakdown voltage"),
+    "vgs_max_V": ("vgs", "vgss", "gate source voltage"),
+    "id_max_A": ("id", "drain current", "continuous drain current"),
+    "vgs_th": ("vgs th", "gate source threshold voltage", "gate threshold voltage",
+               "threshold voltage"),
+    "rds_on": ("rds on", "drain source on state resistance",
+               "static drain source on state resistance", "drain source on resistance",
+               "on state resistance", "on resistance"),
+    "idss": ("idss", "zero gate voltage drain current", "drain cut off current",
+             "drain leakage current"),
+    "vceo_max_V": ("vceo", "v br ceo", "collector emitter voltage",
                    "collector emitter breakdown voltage"),
-    "ic_max_A": ("ic", "collector current", "continuous collector current",
-                 "collector current dc"),
-    "hfe": ("hfe", "dc current gain", "current gain", "h fe", "beta"),
-    "vce_sat": ("vce sat", "vcesat", "collector emitter saturation voltage",
-                "saturation voltage"),
+    "ic_max_A": ("ic", "collector current", "continuous collector current"),
+    "hfe": ("hfe", "h21e", "static forward current transfer ratio", "dc current gain",
+            "current gain"),
+    "vce_sat": ("vce sat", "collector emitter saturation voltage", "saturation voltage"),
     "vbe_on_V": ("vbe", "vbe on", "base emitter voltage", "base emitter on voltage"),
-    "icbo": ("icbo", "collector cutoff current", "collector base cutoff current",
+    "icbo": ("icbo", "collector cut off current", "collector base cut off current",
              "collector leakage current"),
-    "rth_ja_C/W": ("rth ja", "rthja", "theta ja", "thja", "r th j a",
-                   "thermal resistance junction to ambient", "thermal resistance"),
-    "tj_max_C": ("tj", "tjmax", "junction temperature", "operating junction temperature",
-                 "tj max"),
-    "price": ("price", "unit price", "qty price", "price break", "cost", "unit cost"),
-    "vgs_th_tc_mV/C": ("threshold temperature coefficient", "vgs th temperature coefficient"),
-    "rds_tc_pct/C": ("on resistance temperature coefficient", "rds on temperature coefficient"),
+    "rth_ja_C/W": ("rth j a", "r theta ja", "thermal resistance junction to ambient",
+                   "thermal resistance"),
+    "tj_max_C": ("tj", "junction temperature", "operating junction temperature"),
+    "price": ("price", "unit price", "cost", "unit cost"),
+    "vgs_th_tc_mV/C": ("threshold temperature coefficient",
+                       "gate threshold voltage temperature coefficient"),
+    "rds_tc_pct/C": ("on resistance temperature coefficient",
+                     "on state resistance temperature coefficient"),
     "_pd": ("pd", "ptot", "power dissipation", "total power dissipation"),
-    "_other": ("rth jc", "theta jc", "thermal resistance junction to case", "vcbo", "vebo",
-               "iceo", "qg", "gate charge", "ciss", "input capacitance", "coss", "crss",
-               "td on", "td off", "rise time", "fall time", "ft", "transition frequency",
-               "vsd", "diode forward voltage", "is", "idm", "pulsed drain current", "icm",
-               "description", "datasheet", "stock", "quantity available", "rohs",
-               "mounting type", "series", "vgs off", "vce max rating"),
+    "_other": ("rth j c", "r theta jc", "thermal resistance junction to case", "vcbo", "vebo",
+               "iceo", "iebo", "igss", "gate leakage current", "vgs off", "qg", "gate charge",
+               "total gate charge", "ciss", "input capacitance", "coss", "output capacitance",
+               "crss", "reverse transfer capacitance", "td on", "td off", "rise time",
+               "fall time", "ft", "transition frequency", "vsd", "source drain voltage",
+               "diode forward voltage", "idm", "peak drain current", "icm",
+               "peak collector current", "description", "datasheet"),
 }
 LEFT_OUT = {"_pd": "power dissipation has no catalogue column (picker uses rth_ja_C/W; take "
                    "it from the datasheet rather than from Pd, which depends on the test board)",
@@ -160,6 +164,7 @@ _COND = re.compile(
     r"(?:\b(?P<var>vgs|vds|vce|ic|ib|id|tj|ta|tc|t|qty|quantity)\s*)?(?P<op>=|@|≥|>=|\bat\b)?\s*"
     r"(?P<num>[+-]?(?:\d+(?:\.\d+)?|\.\d+))\s*(?P<unit>mv|v|ma|µa|ua|na|a|°c|ºc|degc|c|k|pcs|pieces)?"
     r"(?![a-z0-9])")
+_LINK_WORDS = {"at", "of", "the", "and", "with", "for"}  # 'ICBO at TA = 150 °C'
 _QUALIFIERS = {"min": r"\bmin(?:imum)?\b", "typ": r"\b(?:typ(?:ical)?|nom(?:inal)?)\b",
                "max": r"\bmax(?:imum)?\b"}
 
@@ -191,6 +196,7 @@ def _split_header(raw: str) -> tuple[str, str, list[tuple[str, float, str]], set
         words = re.sub(pattern, " ", words)
     words = words.replace("θ", "th").replace("#", " no ")
     words = " ".join(re.sub(r"[^a-z0-9]+", " ", words).split())
+    words = " ".join(w for w in words.split() if w not in _LINK_WORDS) or words
     return unit, words, conditions, qualifiers
 
 
@@ -245,7 +251,9 @@ def match_header(position: int, raw: str, min_score: float = MAP_AT) -> HeaderMa
         return HeaderMatch(position, raw, None, score, "vocabulary", note, quantity.strip("_"))
 
     if score < min_score:
-        return out(problem or f"score below {min_score:g}: map it with --map if it is wanted")
+        return out(problem or f"not a name picker reads (closest: {quantity.strip('_')}, score "
+                   f"{score:g} < {min_score:g}); to bring it in, name its column in a "
+                   f"--map file: {_toml_str(_clip(raw))} = \"<column>\"")
     if quantity.startswith("_"):
         return out(LEFT_OUT[quantity])
     holds = HOLDS.get(quantity)
@@ -297,6 +305,10 @@ def match_header(position: int, raw: str, min_score: float = MAP_AT) -> HeaderMa
             return out("no quantity break in the header; map it with --map, e.g. price@1000")
         return _found(position, raw, (f"price@{int(qty[0])}",), "", score)
     return _found(position, raw, (quantity,), unit, score, family=family)
+
+
+def _clip(text: str, length: int = 60) -> str:
+    return text if len(text) <= length else text[:length - 3] + "..."
 
 
 def _ranges(name: str) -> str:

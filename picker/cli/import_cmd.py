@@ -47,14 +47,16 @@ def _exists(path: str) -> None:
 @catalog_app.command("import")
 def import_table(
     raw: Annotated[str, typer.Argument(help="The raw parameter table: CSV, semicolon or tab "
-                                            "separated, any header spelling.")],
+                                            "separated, one part a row.")],
     into: IntoOpt = None,
     map_file: Annotated[Optional[str], typer.Option(
-        "--map", metavar="TOML", help="Raw header = catalogue column; overrides the proposed "
-                                      "mapping (\"\" leaves a header out).")] = None,
+        "--map", metavar="TOML",
+        help="Mapping file: a [columns] table of \"raw header\" = \"catalogue column\" lines "
+             "(\"\" leaves a header out); it overrides the proposed mapping (an example is above).")] = None,
     save_map: Annotated[Optional[str], typer.Option(
-        "--save-map", metavar="TOML", help="Save the mapping used, for the next table from "
-                                           "the same source (written even with --dry-run).")] = None,
+        "--save-map", metavar="TOML",
+        help="Write the mapping used as a mapping file, to edit and pass with --map for the "
+             "next table from the same source (written even with --dry-run).")] = None,
     update: UpdateOpt = False,
     fill: FillOpt = False,
     add_columns: AddColumnsOpt = False,
@@ -72,6 +74,23 @@ def import_table(
     fmt: FormatOpt = Fmt.table,
 ) -> None:
     """Bring a supplier's or maker's parameter table into the catalogue.
+
+    Headers are read by the names datasheets and the standards give each
+    quantity: the parameter names and letter symbols of IEC 60747-8 and
+    IEC 60747-7 and JEDEC (V(BR)DSS, VGS(th), RDS(on), IDSS, hFE, VCE(sat),
+    ICBO, RθJA), or plain English ("continuous drain current"), with the unit
+    and the conditions in the header ("RDS(on) max at VGS = -2.5 V (Ω)").
+
+    Any other header, a supplier's own spelling for instance, is named in a
+    mapping file passed with --map; --save-map writes the mapping used, ready
+    to edit. A mapping file is TOML, one [columns] table:
+
+    \b
+        [columns]
+        "Ron 2V5 (mΩ)" = "rds_on_mohm@2.5V"     # raw header = catalogue column
+        "Vth window" = "vgs_th_min_V..vgs_th_max_V"   # a min ~ max range
+        "Leak (nA)" = { column = "idss_uA", unit = "nA" }  # unit of bare numbers
+        "Reel colour" = ""                      # "" leaves the header out
 
     Prints the proposed header mapping with scores, every cell that does not
     read (file:line:column), every difference with parts already in the
@@ -93,6 +112,14 @@ def import_table(
     notes = [f"{map_file}: '{k}' matches no header of this table" for k in overrides
              if " ".join(k.split()).casefold() not in
              {" ".join(h.split()).casefold() for h in table.header}]
+    unread = [m for m in matches if m.target is None and m.how == "vocabulary"
+              and m.raw.strip() and m.score < min_score]
+    if unread:
+        names = ", ".join(f"'{' '.join(m.raw.split())[:40]}'" for m in unread[:6])
+        notes.append(f"{len(unread)} header(s) not read: {names}"
+                     f"{', ...' if len(unread) > 6 else ''}; to bring them in, name their "
+                     "columns in a mapping file and pass it with --map (--save-map writes one "
+                     "to start from; 'picker catalog import --help' shows the format)")
     if save_map:
         write_atomic(save_map, mapping_toml(matches, os.path.basename(raw)).encode("utf-8"),
                      overwrite=True, backup=True)

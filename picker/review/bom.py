@@ -23,22 +23,21 @@ from picker.catalog.tabular import decode, read_bytes, read_table
 
 # -- the columns a BOM may have ------------------------------------------------------
 
-# The usual spellings of each column (compared after `_header_key`), best first:
-# where two headers both fit one field, the one matching an earlier spelling wins.
+# What each column is called, best first (compared after `_header_key`): where two
+# headers both fit one field, the one matching an earlier spelling wins. Only
+# the standards' terms ("reference designator": IEEE 315 / ASME Y14.44), the
+# trade's abbreviations (refdes, qty, MPN) and plain English; a BOM that names
+# a column otherwise is read with --column FIELD=HEADER. tests/test_own_words.py
+# lists every entry with its source.
 FIELDS: dict[str, tuple[str, ...]] = {
-    "refs": ("ref des", "refdes", "reference designator", "reference designators",
-             "designator", "designators", "references", "reference", "refs", "ref",
-             "part reference", "part references", "location", "locations", "position"),
+    "refs": ("reference designators", "reference designator", "refdes", "ref des", "refs", "ref",
+             "references", "reference"),
     "qty": ("qty", "quantity", "qty per board", "quantity per board", "qty per assembly",
-            "qty board", "count", "pcs", "qnty", "amount"),
-    "part": ("mpn", "mfr part number", "mfg part number", "manufacturer part number",
-             "manufacturer part", "manufacturer pn", "mfr pn", "mfg pn", "mfr part", "mfg part",
-             "part number", "pn", "p n", "part no", "part", "component"),
-    "description": ("description", "desc", "part description", "comment", "details", "value"),
-    "maker": ("manufacturer", "mfr", "mfg", "maker", "manufacturer name", "mfr name",
-              "mfg name", "make", "brand"),
-    "price": ("unit price", "price", "unit cost", "price each", "cost each", "price per unit",
-              "cost per unit", "cost", "each"),
+            "quantity per assembly", "count"),
+    "part": ("mpn", "manufacturer part number", "part number", "part no", "part"),
+    "description": ("description", "desc", "part description"),
+    "maker": ("manufacturer", "maker", "manufacturer name", "make", "brand"),
+    "price": ("unit price", "price", "unit cost", "price each", "cost each", "cost"),
 }
 FIELD_NAMES = {"refs": "reference designators", "qty": "quantity", "part": "part number",
                "description": "description", "maker": "maker", "price": "unit price"}
@@ -60,7 +59,7 @@ MAX_QTY = 100_000  # parts per board on one line (as picker.design.requirements.
 
 
 def _header_key(text: str) -> str:
-    """'Mfr. Part #' -> 'mfr part number'; '(USD)' and the like are dropped."""
+    """'Part #' and 'Part No.' -> 'part number'; '(USD)' and the like are dropped."""
     text = re.sub(r"\([^)]*\)|\[[^\]]*\]", " ", text.casefold())
     text = text.replace("#", " number ").replace("no.", "number ")
     return " ".join(re.sub(r"[^0-9a-z]+", " ", text).split())
