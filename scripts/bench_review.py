@@ -148,7 +148,7 @@ def main() -> None:
     from picker.review.bom import read_bom
     from picker.review.revised import revised_bom
     from picker.catalog.load import load_catalog
-    from picker.cli.review_cmd import review_json
+    from picker.present.bom_review import review_json
     from picker.review.propose import Options, review
 
     rng = np.random.default_rng(args.seed)
