@@ -29,7 +29,7 @@ from picker.design.keys import (AUTO, AUTO_KEYS, COMMON_KEYS, DRIVER_OF, EXAMPLE
                                 MAX_VOLUME, OPTION_KEYS, PASS_USES, QUANTITIES, QUICK_AMBIENT_C,
                                 QUICK_REFS, QUICK_SUPPLY_V, QUICK_VOLUME, REQUIRED, ROLE_KEYS,
                                 RULES, TABLE_KEYS, TOP_KEYS, USES, _a, _closest, _or)
-from picker.design.where import _FileWhere, _OptionWhere
+from picker.design.where import _FileWhere, _OptionWhere, spell
 from picker.errors import QuantityError, RequirementError
 
 @dataclass(frozen=True)
@@ -383,6 +383,12 @@ def _link_keys(where, here: tuple, raw: dict, is_pass: bool) -> None:
 
 def load_requirements(path) -> Requirements:
     """Read and check a requirement file; every problem is a RequirementError."""
+    return parse_requirements(read_requirements_text(path), str(path))
+
+
+def read_requirements_text(path) -> str:
+    """The text of a requirement file (UTF-8, a byte-order mark allowed, at
+    most MAX_FILE_BYTES); a file that cannot be read is a RequirementError."""
     source = str(path)
     try:
         with open(path, "rb") as fh:
@@ -400,7 +406,7 @@ def load_requirements(path) -> Requirements:
     except UnicodeDecodeError as err:
         raise RequirementError(f"not UTF-8 text (byte 0x{data[err.start]:02x}); save the file as UTF-8",
                                file=source, line=data[:err.start].count(b"\n") + 1) from None
-    return parse_requirements(text, source)
+    return text
 
 
 _TOML_AT = re.compile(r"\s*\((?:at line (\d+), column (\d+)|at end of document)\)$")
@@ -472,13 +478,15 @@ def assumed(options: dict[str, str | None]) -> list[str]:
 
 
 def from_options(options: dict[str, str | None], base: Requirements | None = None,
-                 role: str | None = None) -> Requirements:
+                 role: str | None = None, *, keyword: bool = False) -> Requirements:
     """Requirements from command-line options (values as typed, None when not given).
 
     Without `base`: one role, with the defaults of the module docstring; --use is
     required, and `role` (if given) names the role. With `base`: a copy of it, the
     given values overriding; role fields go to the role named `role`, or to the only
     role. A new --use of the other family drops the role's old family's values.
+    Messages name the options (`--max-drop`), or with `keyword` the keywords of
+    `picker.design` (`max_drop`).
     """
     if set(options) - set(OPTION_KEYS):
         raise ValueError(f"from_options: unknown option keys {sorted(set(options) - set(OPTION_KEYS))}")
@@ -486,7 +494,7 @@ def from_options(options: dict[str, str | None], base: Requirements | None = Non
     index = 0
     if base is None:
         if "use" not in given:
-            raise RequirementError(f"--use is required: one of {', '.join(USES)}")
+            raise RequirementError(f"{spell('use', keyword)} is required: one of {', '.join(USES)}")
         doc = {"supply": dict(zip(("min", "max"), QUICK_SUPPLY_V)), "build": {"volume": QUICK_VOLUME},
                "ambient": dict(zip(("min", "max"), QUICK_AMBIENT_C)),
                "role": [{"name": role or given["use"], "refs": list(QUICK_REFS)}]}
@@ -497,10 +505,11 @@ def from_options(options: dict[str, str | None], base: Requirements | None = Non
             try:
                 index = names.index(base.role(role).name)
             except RequirementError as err:
-                raise RequirementError(f"--role: {err.message}") from None
+                raise RequirementError(f"{spell('role', keyword)}: {err.message}") from None
         elif role_options and len(names) > 1:
-            raise RequirementError(f"--{role_options[0].replace('_', '-')}: the requirements have {len(names)} "
-                                   f"roles; say which with --role ({', '.join(names[:20])})")
+            raise RequirementError(f"{spell(role_options[0], keyword)}: the requirements have "
+                                   f"{len(names)} roles; say which with {spell('role', keyword)} "
+                                   f"({', '.join(names[:20])})")
         old = doc["role"][index]
         if given.get("use") in USES and (given["use"] in PASS_USES) != (old["use"] in PASS_USES):
             for key in FAMILY_KEYS[old["use"] in PASS_USES]:
@@ -511,9 +520,9 @@ def from_options(options: dict[str, str | None], base: Requirements | None = Non
             try:
                 doc[table]["min"], doc[table]["max"] = parse_range(text, "V" if table == "supply" else "degC")
             except QuantityError as err:
-                raise RequirementError(f"--{table}: {err.message}") from None
+                raise RequirementError(f"{spell(table, keyword)}: {err.message}") from None
         elif table == "role":
             doc["role"][index][name] = [r for r in re.split(r"[,\s]+", text) if r] if name == "refs" else text
         else:
             doc.setdefault(table, {})[name] = text
-    return _build(doc, _OptionWhere(doc), base.source if base else "command line")
+    return _build(doc, _OptionWhere(doc, keyword), base.source if base else "command line")

@@ -109,20 +109,29 @@ class _FileWhere:
 
 
 class _OptionWhere:
-    """Labels a key path with the command-line option that sets it (`--max-drop`)."""
+    """Labels a key path with the command-line option that sets it (`--max-drop`),
+    or, for `picker.design(...)` (`keyword=True`), with its keyword (`max_drop`)."""
 
-    def __init__(self, doc: dict) -> None:
-        self.doc = doc
+    def __init__(self, doc: dict, keyword: bool = False) -> None:
+        self.doc, self.keyword = doc, keyword
 
     def label(self, path: tuple) -> str:
         if not path:
-            return "options"
+            return "keywords" if self.keyword else "options"
         key = path[-1] if path[-1] not in ("min", "max") else path[0]
-        return "--" + ("max_off" if key == "max_off_current" else key).replace("_", "-")
+        return spell("max_off" if key == "max_off_current" else key, self.keyword)
 
     def fail(self, path: tuple, message: str, *, at: tuple | None = None):
         raise RequirementError(f"{self.label(path)}: {message}")
 
     def missing(self, table: tuple, key: str, why: str = ""):
         option = self.label((*table, key))
-        raise RequirementError(f"{option} is required{why}; e.g. {option} {EXAMPLES[key].strip(chr(34))}")
+        example = EXAMPLES[key].strip(chr(34))
+        tip = f"{option}={EXAMPLES[key]}" if self.keyword else f"{option} {example}"
+        raise RequirementError(f"{option} is required{why}; e.g. {tip}")
+
+
+def spell(key: str, keyword: bool = False) -> str:
+    """An option key as the user wrote it: `--max-drop` on the command line,
+    `max_drop` as a keyword of `picker.design(...)`."""
+    return key if keyword else "--" + key.replace("_", "-")
