@@ -75,3 +75,45 @@ def test_the_check_sees_an_upward_import():
     """The reader itself: an engine module importing the renderer is caught."""
     assert LEVELS.index(_level("picker.present.render")) < LEVELS.index(_level("picker.engine.evaluate"))
     assert _level("picker.cells") == "base" and _level("picker.cli.common") == "cli"
+
+
+# -- module size, and the architecture table ----------------------------------------------
+
+MAX_LINES = 500  # "about 500" (DEVELOPERS.md): past it, split along a seam
+DEVELOPERS = ROOT.parent / "DEVELOPERS.md"
+
+
+def test_no_module_is_over_about_500_lines():
+    long = {str(p.relative_to(ROOT.parent)): n for p in sorted(ROOT.rglob("*.py"))
+            if (n := len(p.read_text(encoding="utf-8").splitlines())) > MAX_LINES}
+    assert long == {}, f"modules over {MAX_LINES} lines: split them along a seam"
+
+
+def _table_rows() -> dict[str, str]:
+    """DEVELOPERS.md's architecture table: the first cell's path -> the row's text."""
+    rows = {}
+    for line in DEVELOPERS.read_text(encoding="utf-8").splitlines():
+        if line.startswith("| `picker/"):
+            first = line.split("|")[1].strip().strip("`")
+            rows[first] = line
+    return rows
+
+
+def test_the_architecture_table_names_every_module():
+    """Each subpackage's row names each of its modules (`name`), and each
+    top-level module has a row: the table stays true as modules are added."""
+    rows = _table_rows()
+    missing = []
+    for path in sorted(ROOT.rglob("*.py")):
+        rel = path.relative_to(ROOT)
+        if path.name.startswith("_") and path.name != "__init__.py" or rel.parts[0] == "data":
+            continue
+        if len(rel.parts) == 1:
+            key = f"picker/{rel.name}"
+            if key not in rows and rel.name != "__init__.py":
+                missing.append(key)
+            continue
+        row = rows.get(f"picker/{rel.parts[0]}/", "")
+        if path.name != "__init__.py" and f"`{path.stem}`" not in row:
+            missing.append(str(Path("picker") / rel))
+    assert missing == [], "add these to DEVELOPERS.md's architecture table: " + ", ".join(missing)
