@@ -22,11 +22,20 @@ that needs them (the command line's `picker --help` imports this package).
 
 __version__ = "0.1.0"
 
-# The subpackage picker.design (requirement files) is loaded first, so that the
-# name `picker.design` is the function below for good: Python binds a
-# subpackage to its parent's attribute only when it first loads it. Reach the
-# subpackage's modules with `from picker.design.<module> import ...`.
-import picker.design as _design_subpackage  # noqa: E402,F401  (a docstring: no cost)
+# Two subpackages share a name with an API function: picker.design (requirement
+# files) and picker.review (the BOM review). Python binds a subpackage to its
+# parent's attribute when it first loads it, so both are loaded here (each is a
+# docstring: no cost) and their bindings removed: from then on `picker.design`
+# and `picker.review` are the API functions, whatever is imported later. Reach
+# their modules with `from picker.review import bom` or
+# `from picker.review.bom import read_bom`, never `import picker.review.bom as
+# bom` (that form reads the attribute; tests/test_architecture.py checks).
+from importlib import import_module as _import_module  # noqa: E402
+
+_import_module("picker.design")
+_import_module("picker.review")
+del design, review  # the subpackages' bindings (see above); __getattr__ gives the functions
+
 from picker.errors import (BomError, CatalogError, MappingError, PickerError,  # noqa: E402
                            QuantityError, RequirementError, TooLarge, UsageError, WriteRefused)
 
@@ -45,14 +54,11 @@ _LAZY = {
     "choose": "result", "lowest_supply": "result", "Result": "result", "RoleChoice": "result",
     "review": "review", "Review": "review",
 }
-del design  # the subpackage's binding: `picker.design` is the API function (see __getattr__)
 
 
 def __getattr__(name: str):
     if name in _LAZY:
-        import importlib
-
-        value = getattr(importlib.import_module(f"picker.api.{_LAZY[name]}"), name)
+        value = getattr(_import_module(f"picker.api.{_LAZY[name]}"), name)
         globals()[name] = value  # later look-ups are plain attribute reads
         return value
     raise AttributeError(f"module 'picker' has no attribute {name!r}")

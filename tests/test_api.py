@@ -259,13 +259,26 @@ def test_import_picker_loads_neither_pandas_nor_numpy():
     assert done.stdout.strip() == "[]"
 
 
-def test_picker_design_stays_the_function_whatever_is_imported():
-    """The subpackage picker.design shares the name: loading every module of
-    the package must not rebind picker.design to it."""
+def test_picker_design_and_review_stay_the_functions_whatever_is_imported():
+    """The subpackages picker.design and picker.review share the functions'
+    names: loading every module of the package must not rebind them."""
     for info in pkgutil.walk_packages(picker.__path__, "picker."):
         if not info.name.startswith(("picker.cli", "picker.__main__")):  # (the CLI runs on import)
             importlib.import_module(info.name)
     importlib.import_module("picker.cli")
     assert callable(picker.design) and picker.design.__module__ == "picker.api.design"
-    from picker.design.requirements import Requirements  # the subpackage still imports
+    assert callable(picker.review) and picker.review.__module__ == "picker.api.review"
+    from picker.design.requirements import Requirements  # the subpackages still import
+    from picker.review import bom
     assert Requirements.__module__ == "picker.design.requirements"
+    assert bom.__name__ == "picker.review.bom"
+
+
+def test_the_functions_win_even_when_a_subpackage_loads_first():
+    """A fresh interpreter that loads the BOM reader before touching the API."""
+    code = ("from picker.review.bom import read_bom; import picker; "
+            "from picker.design.keys import USES; "
+            "print(picker.review.__module__, picker.design.__module__)")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          cwd=ROOT, check=True)
+    assert done.stdout.split() == ["picker.api.review", "picker.api.design"]

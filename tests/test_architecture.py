@@ -117,3 +117,41 @@ def test_the_architecture_table_names_every_module():
         if path.name != "__init__.py" and f"`{path.stem}`" not in row:
             missing.append(str(Path("picker") / rel))
     assert missing == [], "add these to DEVELOPERS.md's architecture table: " + ", ".join(missing)
+
+
+# -- the two subpackages that share a name with an API function --------------------------
+
+SHARED = ("picker.design", "picker.review")  # subpackages; `picker.design(...)` is the API
+
+
+def _reaches_through_the_attribute(tree: ast.AST) -> list[tuple[int, str]]:
+    """`import picker.review.bom as bom` and `monkeypatch.setattr("picker.review....")`
+    read the attribute `picker.review`, which is the API function, not the subpackage."""
+    found = []
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            found += [(node.lineno, a.name) for a in node.names
+                      if a.asname and a.name.startswith(tuple(s + "." for s in SHARED))]
+        elif isinstance(node, ast.Call) and node.args and isinstance(node.args[0], ast.Constant) \
+                and isinstance(node.args[0].value, str) \
+                and node.args[0].value.startswith(tuple(s + "." for s in SHARED)) \
+                and getattr(node.func, "attr", getattr(node.func, "id", "")) in ("setattr", "delattr", "patch"):
+            found.append((node.lineno, node.args[0].value))
+    return found
+
+
+def test_no_code_reaches_a_shared_subpackage_through_its_attribute():
+    """Write `from picker.review import bom` (or `from picker.review.bom import
+    ...`) and patch objects, not dotted strings: see picker/__init__.py."""
+    bad = []
+    for folder in ("picker", "tests", "scripts"):
+        for path in sorted((ROOT.parent / folder).rglob("*.py")):
+            for line, what in _reaches_through_the_attribute(ast.parse(path.read_text(encoding="utf-8"))):
+                bad.append(f"{path.relative_to(ROOT.parent)}:{line}: {what}")
+    assert bad == [], "use `from picker.review import bom` instead:\n" + "\n".join(bad)
+
+
+def test_the_check_sees_an_import_through_the_attribute():
+    tree = ast.parse("import picker.review.bom as b\nm.setattr('picker.design.keys.X', 1)\n"
+                     "from picker.review import bom\nimport picker.review.bom\n")
+    assert _reaches_through_the_attribute(tree) == [(1, "picker.review.bom"), (2, "picker.design.keys.X")]

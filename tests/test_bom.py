@@ -342,7 +342,7 @@ def test_split_records_agrees_with_the_csv_module(rows, delimiter, ending):
 def test_rewrite_fallback_keeps_every_cell(tmp_path, monkeypatch):
     """Where the byte-keeping copy does not read back as expected, every cell is
     written again with the csv module: values kept, same delimiter and encoding."""
-    import picker.review.revised as bom_module
+    from picker.review import revised as bom_module
 
     monkeypatch.setattr(bom_module, "_faithful", lambda *a: False)
     bom = read_bom(DATA / "failing-incumbents.csv")

@@ -167,7 +167,7 @@ def test_regression_refs_of_the_whole_bom_are_bounded(monkeypatch):
     """Ranges of up to MAX_RANGE refs on every line of a large BOM could still
     expand to billions of refs: the whole BOM is bounded by MAX_REFS, an error
     naming the line where the bound is passed."""
-    import picker.review.bom as bom_module
+    from picker.review import bom as bom_module
 
     monkeypatch.setattr(bom_module, "MAX_REFS", 25)
     rows = "".join(f"Q{10 * k + 1}-Q{10 * k + 10},10,P{k}\n" for k in range(3))
@@ -219,7 +219,7 @@ def test_regression_lone_carriage_return_in_a_rewritten_cell_is_quoted(monkeypat
     """Where the byte-keeping copy falls back to writing every cell again, a
     value holding a lone CR (a catalogue cell may) was written unquoted by the
     csv module's writer, so the revised BOM read back with an extra line."""
-    import picker.review.revised as bom_module
+    from picker.review import revised as bom_module
 
     monkeypatch.setattr(bom_module, "_faithful", lambda *a: False)
     bom = read_bom(PATH, data=b"Ref,Qty,MPN,Manufacturer\nQ1,1,ABC,Old\nQ2,1,DEF,Old\n")
@@ -244,7 +244,7 @@ def test_regression_rewritten_bom_keeps_fields_past_the_header():
 
 def test_regression_rewritten_bom_keeps_its_title_lines(monkeypatch):
     """The same fallback dropped the title lines above the header."""
-    import picker.review.revised as bom_module
+    from picker.review import revised as bom_module
 
     monkeypatch.setattr(bom_module, "_faithful", lambda *a: False)
     data = b"Bill of materials\nBoard: KL-1\n\nRef,Qty,MPN\nQ1,1,ABC\n"
