@@ -30,7 +30,8 @@ import pytest
 
 from picker.catalog.load import load_catalog
 from picker.engine.evaluate import FAIL, OUTCOME, PASS, UNKNOWN, evaluate, evaluate_role
-from picker.design.requirements import QUICK_SUPPLY_V, from_options, parse_requirements
+from picker.design.requirements import QUICK_SUPPLY_V, parse_requirements
+from picker.design.quick import from_options
 
 REL = 1e-4  # hand arithmetic rounded to 5-6 significant figures
 

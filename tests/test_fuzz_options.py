@@ -2,7 +2,7 @@
 with exit 0, 1 or 2 and one of our messages, never an exception.
 
 The bulk runs in-process: the option parser of quick questions
-(`requirements.from_options`) on random values, and the commands themselves
+(`quick.from_options`) on random values, and the commands themselves
 through typer's test runner on a four-part catalogue, so each example costs
 milliseconds. (tests/test_fuzz_cli.py runs the real executable.)"""
 
@@ -18,7 +18,8 @@ from hypothesis import strategies as st
 from conftest import EXAMPLES, ROOT, TINY_CSV, invoke
 from fuzzing import FUZZ, nasty_cell, ours
 from picker.errors import PickerError, RequirementError
-from picker.design.requirements import OPTION_KEYS, USES, from_options, load_requirements
+from picker.design.requirements import OPTION_KEYS, USES, load_requirements
+from picker.design.quick import from_options
 
 BASE = load_requirements(EXAMPLES / "kettlewick-power.toml")
 

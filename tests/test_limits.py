@@ -33,7 +33,8 @@ from picker.catalog import tabular
 from picker.review.bom import read_bom
 from picker.catalog.load import load_catalog
 from picker.errors import BomError, CatalogError, RequirementError, TooLarge
-from picker.design.requirements import from_options, load_requirements, parse_requirements
+from picker.design.requirements import load_requirements, parse_requirements
+from picker.design.quick import from_options
 
 REQ_TEXT = (EXAMPLES / "kettlewick-power.toml").read_text(encoding="utf-8")
 

@@ -12,7 +12,8 @@ from __future__ import annotations
 import pytest
 
 from conftest import invoke
-from picker.design.requirements import from_options, parse_requirements
+from picker.design.requirements import parse_requirements
+from picker.design.quick import from_options
 from picker.errors import RequirementError
 
 LATCH = """\

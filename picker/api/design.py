@@ -7,6 +7,7 @@ import os
 from typing import Any
 
 from picker.design import requirements as _req
+from picker.design import quick as _quick
 from picker.design.inputs import Input, inputs
 from picker.design.keys import OPTION_KEYS, _closest
 
@@ -156,11 +157,11 @@ def design(base: Design | str | os.PathLike | None = None, /, *, role: str | Non
             raise TypeError(f"design() got an unexpected keyword argument {key!r}{tip}")
         options[key] = _text(key, value)
     if base is None:
-        req = _req.from_options(options, None, role, keyword=True)
+        req = _quick.from_options(options, None, role, keyword=True)
         return Design(req, given=fields, role=req.roles[0].name)
     if not options:
         return base
-    req = _req.from_options(options, base._req, role, keyword=True)
+    req = _quick.from_options(options, base._req, role, keyword=True)
     given = {**base._given, **fields}
     return Design(req, text=base._text, given=given, role=role if role is not None else base._role)
 

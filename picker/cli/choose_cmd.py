@@ -59,7 +59,8 @@ def choose(
     from picker.engine.evaluate import design_json, evaluate
     from picker.present.explain import choose_csv, choose_report
     from picker.present.render import Report
-    from picker.design.requirements import assumed, from_options, load_requirements
+    from picker.design.requirements import load_requirements
+    from picker.design.quick import assumed, from_options
 
     options = {
         "use": use, "supply": supply, "ambient": ambient, "capacity": capacity,

@@ -19,6 +19,7 @@ from picker.design.requirements import Requirements
 from picker.design.where import _FileWhere, spell
 
 DEFAULT = "default"
+_AS_WRITTEN = "as written"  # a key this module has no value in force for: the file's text
 ASSUMED = "assumed (quick question)"
 _QUICK = {"supply": ("min", "max"), "ambient": ("min", "max"), "build": ("volume",)}
 UNSET = {  # what a key nobody set means (models/README.md §3, §5, §6)
@@ -94,7 +95,7 @@ def inputs(req: Requirements, *, text: str | None = None, given: dict | None = N
         keys += [k for k in TABLE_KEYS.get(table, ()) if k not in keys]
         for key in keys:
             value = _table_value(req, table, key)
-            if value is None:
+            if value is None or value is _AS_WRITTEN and key not in doc.get(table, {}):
                 continue
             if (table, key) in overridden:
                 source = overridden[(table, key)]
@@ -142,7 +143,7 @@ def _table_value(req: Requirements, table: str, key: str) -> str | None:
         return f"{req.volume:,}"
     if table == "margins" and key in QUANTITIES:
         return in_force(req.margins, key)
-    return "as written"  # a table this module does not know yet: shown from the file
+    return _AS_WRITTEN  # a table this module does not know yet: shown from the file
 
 
 def _role_value(role, key: str) -> str:
@@ -154,4 +155,4 @@ def _role_value(role, key: str) -> str:
         return str(role.parts_per_board)
     if key in QUANTITIES:
         return in_force(role, key)
-    return "as written"
+    return _AS_WRITTEN
