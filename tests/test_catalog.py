@@ -286,3 +286,57 @@ def test_cache_serves_the_same_catalogue_and_never_a_stale_one(tmp_path, monkeyp
     os.utime(path, ns=(stat.st_atime_ns, stat.st_mtime_ns))
     assert path.stat().st_size == stat.st_size
     assert "HLP6125-X" in load_catalog(path, source="test").df["part"].tolist()
+
+
+# -- leakage figures that cannot be read as written (models/README.md §4) ------------------
+
+LEAK_HEADER = "part,kind,idss_uA,idss_hot_uA,idss_hot_C,icbo_nA,icbo_hot_nA,icbo_hot_C,rth_ja_C/W"
+LEAK_RULES = [
+    # (rows after the header, line, column name, fragment of the warning)
+    ("zero at 25 °C", "LK-1,pmos,0,,,,,,300", 2, "idss_uA", "idss_uA is 0, read as blank"),
+    ("zero with a hot point", "LK-1,npn,,,,0,500,100,300", 2, "icbo_nA",
+     "taken from icbo_hot_nA 500 nA at 100 °C, doubling every 10 °C"),
+    ("zero hot figure", "LK-1,npn,,,,10,0,100,300", 2, "icbo_hot_nA", "icbo_hot_nA is 0"),
+    ("falling hot point", "LK-1,npn,,,,10,8,100,300", 2, "icbo_hot_nA",
+     "leakage does not fall as the die warms"),
+    ("hot point equal", "LK-1,pmos,1,1,85,,,,300", 2, "idss_hot_uA", "is not above idss_uA 1 µA"),
+    ("hot point not hot", "LK-1,pmos,1,5,20,,,,300", 2, "idss_hot_C", "is not above 25 °C"),
+    ("hot figure alone", "LK-1,pmos,1,5,,,,,300", 2, "idss_hot_uA", "without idss_hot_C"),
+    ("temperature alone", "LK-1,npn,,,,10,,85,300", 2, "icbo_hot_C", "without icbo_hot_nA"),
+]
+
+
+@pytest.mark.parametrize("name,row,line,column,fragment", LEAK_RULES, ids=[r[0] for r in LEAK_RULES])
+def test_leakage_warnings_name_the_cell(tmp_path, name, row, line, column, fragment):
+    """Each leakage figure the method cannot read as written is one warning
+    (not an error: the row stays in) at its file:line:column."""
+    catalog, path = load_text(tmp_path, LEAK_HEADER + "\n" + row + "\n")
+    assert catalog.errors == []
+    assert len(catalog.warnings) == 1, [str(p) for p in catalog.warnings]
+    p = catalog.warnings[0]
+    position = LEAK_HEADER.split(",").index(column) + 1
+    assert (p.line, p.column, p.column_name) == (line, position, column)
+    assert fragment in p.message
+    assert str(p).startswith(f"{path}:{line}:{position}: warning: ")
+    assert line in catalog.df.index
+
+
+def test_clean_leakage_points_raise_nothing(tmp_path):
+    """A hot point above the 25 °C figure, and no point at all, are fine."""
+    text = LEAK_HEADER + "\nLK-1,pmos,1,10,85,,,,300\nLK-2,npn,,,,10,500,100,300\nLK-3,npn,,,,,,,300\n"
+    catalog, _ = load_text(tmp_path, text)
+    assert catalog.problems == []
+
+
+def test_new_bipolar_columns_are_read_in_their_units(tmp_path):
+    """vbe_sat_max_V (V, a magnitude: a PNP's -0.85 V reads 0.85) and hfe_max (a
+    plain number) are catalogue columns (interfaces.md); a unit that does not
+    fit is an error at the cell."""
+    text = ("part,kind,vbe_sat_max_V,hfe_max\nBJ-1,npn,850 mV,400\nBJ-2,pnp,-0.9,300\n"
+            "BJ-3,npn,0.85 A,300\n")
+    catalog, path = load_text(tmp_path, text)
+    df = catalog.df.set_index("part")
+    assert df.loc["BJ-1", "vbe_sat_max_V"] == pytest.approx(0.85) and df.loc["BJ-1", "hfe_max"] == 400
+    assert df.loc["BJ-2", "vbe_sat_max_V"] == pytest.approx(0.9)
+    (error,) = catalog.errors
+    assert (error.line, error.column) == (4, 3) and "is a current" in error.message

@@ -135,24 +135,31 @@ def test_closed_form_gate_limited(tmp_path, tc, cold, hot):
     assert _works(df, req, worst + STEP_V) and not _works(df, req, worst - STEP_V)
 
 
-def test_closed_form_bipolar_saturation(tmp_path, tiny_catalog):
+@pytest.mark.parametrize("pulldown", [None, "47 kohm"])
+def test_closed_form_bipolar_saturation(tmp_path, tiny_catalog, pulldown):
     """npn switch, base driven from the cell through Rb = 10 kΩ, Ic = 1 mA,
     overdrive 2 (models/README.md §6). Saturation holds while
-        Ib·hFE(T) >= 2·Ic,  Ib = (V - Vbe(T)) / Rb   (Ohm's law)
-        V = Vbe(T) + 2·Ic·Rb / hFE(T)
-    TQB-400 (conftest TINY_CSV): hFE min 100 at 1 mA; no vbe_on_V, so 0.65 V.
-        cold -20 °C: Vbe = 0.65 + 0.002·45 = 0.74 V (Horowitz & Hill, -2 mV/°C),
+        Ib·hFE(T) >= 2·Ic,  Ib = (V - Vbe(T)) / Rb - Vbe(T) / Rpd   (Ohm's and Kirchhoff's laws)
+        V = Vbe(T) + Rb·(2·Ic / hFE(T) + Vbe(T) / Rpd)
+    TQB-400 (conftest TINY_CSV): hFE min 100 at 1 mA; no Vbe in the catalogue, so
+    0.75 V is assumed (models/README.md §6).
+        cold -20 °C: Vbe = 0.75 + 0.002·45 = 0.84 V (Horowitz & Hill, -2 mV/°C),
                      hFE = 100·(1 - 0.005·45) = 77.5 (from memory)
-                     V = 0.74 + 20/77.5 = 0.998065 V
-        hot 45 °C:   Vbe = 0.65 - 0.002·20 = 0.61 V, hFE = 100·1.1 = 110
-                     V = 0.61 + 20/110 = 0.791818 V
+                     V = 0.84 + 20/77.5 = 1.098065 V; with a 47 kΩ pull-down
+                     + 10k·0.84/47k = 0.178723 V more: 1.276788 V
+        hot 45 °C:   Vbe = 0.75 - 0.002·20 = 0.71 V, hFE = 100·1.1 = 110
+                     V = 0.71 + 20/110 = 0.891818 V; pull-down: + 0.151064 = 1.042882 V
     """
     df = load_catalog(tiny_catalog, source="test").df
+    extra = "" if pulldown is None else f'\nbase_pulldown = "{pulldown}"'
     req = requirements('use = "npn-switch"\ncollector_current = "1 mA"\nbase_drive = "supply"\n'
-                       'base_resistor = "10 kohm"')
+                       'base_resistor = "10 kohm"' + extra)
+    cold, hot = 0.84 + 20 / 77.5, 0.71 + 20 / 110
+    if pulldown:
+        cold, hot = cold + 10 * 0.84 / 47, hot + 10 * 0.71 / 47
     low = headroom.lowest_supply(df[df["kind"] == "npn"], req.roles[0], req).iloc[0]
-    assert 0 <= low["lowest_supply_cold_V"] - (0.74 + 20 / 77.5) <= BISECT
-    assert 0 <= low["lowest_supply_hot_V"] - (0.61 + 20 / 110) <= BISECT
+    assert 0 <= low["lowest_supply_cold_V"] - cold <= BISECT
+    assert 0 <= low["lowest_supply_hot_V"] - hot <= BISECT
     assert (low["lowest_supply_status"], low["lowest_supply_limit"], low["lowest_supply_corner"]) == \
         ("found", "saturation", "cold")
     v = low["lowest_supply_V"]

@@ -308,7 +308,8 @@ def test_role_checks_its_use():
 def opts(**given) -> dict:
     """The options dict as the CLI passes it: every key, None where not given."""
     keys = ("use supply ambient capacity volume name refs qty load max_drop gate_drive gate_drive_drop "
-            "max_tj collector_current base_drive base_resistor overdrive max_vce_sat max_off "
+            "max_tj collector_current base_drive base_resistor base_pulldown base_off overdrive "
+            "max_vce_sat max_off "
             "derate_v derate_i tj_margin").split()
     return {k: given.get(k) for k in keys}
 
@@ -447,3 +448,121 @@ def test_override_errors(two_roles, given, role, message):
     with pytest.raises(RequirementError) as err:
         from_options(opts(**given), two_roles, role)
     assert str(err.value).startswith(message), str(err.value)
+
+
+# -- method v2: [resistors], base_pulldown, base_off (interfaces.md, models/README.md §6, §10) -----
+
+V2_BASE = """[supply]
+min = "3.0 V"
+max = "4.2 V"
+[ambient]
+min = "-20 degC"
+max = "45 degC"
+[build]
+volume = 100
+[resistors]
+series = "E24"
+tolerance = "5 %"
+max = "2.2 Mohm"
+[[role]]
+name = "latch"
+refs = ["Q2"]
+use = "npn-switch"
+collector_current = "45 uA"
+base_resistor = "1 Mohm"
+base_pulldown = "2.2 Mohm"
+base_off = "open"
+"""
+
+
+def v2_edit(line: int, text: str | None) -> str:
+    lines = V2_BASE.split("\n")
+    if text is None:
+        del lines[line - 1]
+    else:
+        lines[line - 1] = text
+    return "\n".join(lines)
+
+
+def test_v2_keys_read_in_si():
+    """The interface's example values: E24, 5 % (a fraction 0.05), 2.2 MΩ;
+    the pull-down in ohms; base_off as written."""
+    req = parse_requirements(V2_BASE, "v2.toml")
+    assert (req.resistors.series, req.resistors.tolerance, req.resistors.max_ohm) == ("E24", 0.05, 2.2e6)
+    assert req.resistor_tolerance == 0.05
+    role = req.roles[0]
+    assert (role.base_pulldown_ohm, role.base_off) == (2.2e6, "open")
+
+
+@pytest.mark.parametrize("series, tolerance", [("E6", 0.20), ("E12", 0.10), ("E24", 0.05),
+                                               ("e48", 0.01), ("E96", 0.01), ("E192", 0.01)])
+def test_series_default_tolerance(series, tolerance):
+    """models/README.md §10: without a tolerance the series' usual one (common practice)."""
+    req = parse_requirements(v2_edit(11, None).replace('"E24"', f'"{series}"'), "v2.toml")
+    assert (req.resistors.series, req.resistors.tolerance) == (series.upper(), tolerance)
+
+
+def test_defaults_without_the_table_or_its_keys():
+    """No [resistors] table: a value given is exact (tolerance 0); an empty table:
+    E24, 5 %, 2.2 MΩ (models/README.md §10); no base_off: "driven"; no pull-down: None."""
+    plain = "\n".join(line for i, line in enumerate(V2_BASE.split("\n"), 1) if not 9 <= i <= 12)
+    req = parse_requirements(plain.replace('base_pulldown = "2.2 Mohm"\n', "")
+                             .replace('base_off = "open"\n', ""), "v2.toml")
+    assert req.resistors is None and req.resistor_tolerance == 0.0
+    assert (req.roles[0].base_pulldown_ohm, req.roles[0].base_off) == (None, "driven")
+    empty = parse_requirements(v2_edit(10, "").replace('tolerance = "5 %"', "").replace(
+        'max = "2.2 Mohm"', ""), "v2.toml")
+    assert (empty.resistors.series, empty.resistors.tolerance, empty.resistors.max_ohm) == (
+        "E24", 0.05, 2.2e6)
+
+
+V2_BAD = {
+    "series unknown": (10, 'series = "E36"', "[resistors] series: 'E36' is not an IEC 60063 series; "
+                                               "did you mean 'E6' or 'E96'?"),
+    "series a number": (10, "series = 24", "did you mean 'E24'?"),
+    "tolerance as a plain 5": (11, "tolerance = 5", "a tolerance is under 100 %"),
+    "tolerance negative": (11, 'tolerance = "-1 %"', "must not be negative"),
+    "tolerance a resistance": (11, 'tolerance = "5 ohm"', "is a resistance"),
+    "max too small": (12, 'max = "47 ohm"', "below 100 Ω"),
+    "max a voltage": (12, 'max = "2 V"', "is a voltage; expected a resistance"),
+    "resistors key": (12, 'maximum = "2.2 Mohm"', "[resistors]: unknown key 'maximum'; did you mean 'max'?"),
+    "pull-down a voltage": (19, 'base_pulldown = "1 V"', "base_pulldown: '1 V' is a voltage"),
+    "pull-down zero": (19, 'base_pulldown = "0 ohm"', "base_pulldown: '0 ohm' must be above zero"),
+    "base_off misspelt": (20, 'base_off = "opne"', "base_off: 'opne' must be \"driven\" or \"open\"; "
+                                                    "did you mean 'open'?"),
+    "base_off a number": (20, "base_off = 1", "base_off: '1' must be \"driven\" or \"open\""),
+}
+
+
+@pytest.mark.parametrize("line, text, fragment", list(V2_BAD.values()), ids=list(V2_BAD))
+def test_v2_bad_values_name_file_line_and_key(tmp_path, line, text, fragment):
+    """One line naming the file, the line and the key; exit 2 comes from the
+    CLI's handling of RequirementError (tests/test_cli_choose.py)."""
+    path = tmp_path / "v2.toml"
+    path.write_text(v2_edit(line, text), encoding="utf-8")
+    with pytest.raises(RequirementError) as err:
+        load_requirements(path)
+    assert (err.value.file, err.value.line) == (str(path), line), str(err.value)
+    assert fragment in str(err.value) and "\n" not in str(err.value)
+
+
+def test_v2_keys_on_a_pass_switch_are_refused():
+    """base_pulldown and base_off belong to npn-switch and pnp-switch roles."""
+    text = V2_BASE.replace('use = "npn-switch"', 'use = "high-side-pmos"\nload = "1 A"\nmax_drop = "60 mV"')
+    with pytest.raises(RequirementError, match="base_pulldown: not used by a high-side-pmos role"):
+        parse_requirements(text.replace('collector_current = "45 uA"\n', "")
+                           .replace('base_resistor = "1 Mohm"\n', ""), "v2.toml")
+
+
+def test_v2_quick_question_and_override():
+    """--base-pulldown and --base-off on the command line, alone and over a file;
+    the file's [resistors] table survives an override."""
+    req = from_options(opts(use="npn-switch", collector_current="45uA", base_resistor="1M",
+                            base_pulldown="2M2", base_off="open"))
+    assert (req.roles[0].base_pulldown_ohm, req.roles[0].base_off) == (2.2e6, "open")
+    base = parse_requirements(V2_BASE, "v2.toml")
+    over = from_options(opts(base_off="driven", base_pulldown="1 Mohm"), base)
+    assert (over.roles[0].base_pulldown_ohm, over.roles[0].base_off) == (1e6, "driven")
+    assert over.resistors == base.resistors
+    with pytest.raises(RequirementError, match="--base-off: 'shut' must be"):
+        from_options(opts(base_off="shut"), base)

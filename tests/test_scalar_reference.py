@@ -47,3 +47,61 @@ def test_engine_equals_the_per_part_reference_on_the_demo_catalogue():
         if not math.isnan(row["tj_C"]):
             assert row["tj_C"] == pytest.approx(ref["tj_C"], rel=REL_TOL), part["part"]
         assert bool(row["feasible"]) == ref["feasible"], part["part"]
+
+
+SWITCH_VARIANTS = [
+    # (example file, role, overrides as requirement text appended to the role, tolerance)
+    ("kettlewick-power.toml", "latch", "", None),
+    ("kettlewick-power.toml", "latch", 'base_pulldown = "2.2 Mohm"\nbase_off = "open"\n', 0.05),
+    ("kettlewick-power.toml", "latch", 'base_off = "open"\n', None),
+    ("kettlewick-power.toml", "gauge-leds", 'base_pulldown = "47 kohm"\n', 0.10),
+    ("kettlewick-power.toml", "sensor-feed", "", None),
+    ("kettlewick-power.toml", "usb-sense", 'base_pulldown = "10 Mohm"\nbase_off = "open"\n', 0.01),
+    ("kettlewick-warmer.toml", "thermistor-bias", "", None),
+    ("kettlewick-warmer.toml", "buzzer", 'base_pulldown = "470 ohm"\n', 0.05),
+]
+
+
+@pytest.mark.parametrize("example, role_name, extra, tol", SWITCH_VARIANTS,
+                         ids=[f"{v[1]}-{i}" for i, v in enumerate(SWITCH_VARIANTS)])
+def test_switch_engine_equals_the_per_part_reference(example, role_name, extra, tol):
+    """Every bipolar part of the demo catalogue of the role's kind, for the demo
+    roles and variants with a pull-down, an open base and a resistor tolerance
+    (models/README.md §4, §6): the same base current, gain, Vce(sat), off current,
+    unit price and verdict, to rounding."""
+    import dataclasses
+
+    from picker.design.requirements import Resistors, from_options
+
+    req = load_requirements(EXAMPLES / example)
+    options = {}
+    for line in extra.splitlines():
+        key, value = (p.strip() for p in line.split("=", 1))
+        options[key] = value.strip('"')
+    if options:
+        from picker.design.keys import OPTION_KEYS
+
+        req = from_options({k: options.get(k) for k in OPTION_KEYS}, req, role_name)
+    if tol is not None:
+        req = dataclasses.replace(req, resistors=Resistors(tolerance=tol))
+    role = req.role(role_name)
+    df = load_catalog(DEMO, source="test").df
+    table = evaluate_role(df, role, req).frame.set_index("part")
+    spec = {"supply_min": req.supply.min_V, "supply_max": req.supply.max_V,
+            "ambient_min": req.ambient.min_C, "ambient_max": req.ambient.max_C,
+            "ic": role.collector_current_A, "drive": role.base_drive_V, "rb": role.base_resistor_ohm,
+            "rpd": role.base_pulldown_ohm, "tol": req.resistor_tolerance,
+            "overdrive": role.overdrive, "base_off": role.base_off,
+            "max_vce_sat": role.max_vce_sat_V, "max_off": role.max_off_current_A,
+            "volume": req.volume * role.parts_per_board}
+    parts = df[df["kind"] == role.kind].to_dict("records")
+    assert len(parts) >= 10
+    for part in parts:
+        ref = scalar_reference.evaluate_switch(part, spec)
+        row = table.loc[part["part"]]
+        for name in ("ib_A", "hfe", "vce_sat_V", "off_current_A", "unit_price"):
+            if math.isnan(ref[name]):
+                assert math.isnan(row[name]), (part["part"], name)
+            else:
+                assert row[name] == pytest.approx(ref[name], rel=1e-9), (part["part"], name)
+        assert bool(row["feasible"]) == ref["feasible"], part["part"]

@@ -39,6 +39,8 @@ def choose(
     collector_current: Annotated[Optional[str], _opt("--ic", "--collector-current", help="Switch: collector current, e.g. 40uA.")] = None,
     base_drive: Annotated[Optional[str], _opt("--base-drive", help="Switch: 'supply' or a voltage.")] = None,
     base_resistor: Annotated[Optional[str], _opt("--rb", "--base-resistor", help="Switch: base resistor, e.g. 68k or 4k7.")] = None,
+    base_pulldown: Annotated[Optional[str], _opt("--rpd", "--base-pulldown", help="Switch: base-emitter pull-down, e.g. 1M.")] = None,
+    base_off: Annotated[Optional[str], _opt("--base-off", help="Switch: what holds the base while off: 'driven' (default) or 'open'.", metavar="HOW")] = None,
     overdrive: Annotated[Optional[str], _opt("--overdrive", help="Switch: Ib·hFE over Ic needed (default 2).")] = None,
     max_vce_sat: Annotated[Optional[str], _opt("--max-vce-sat", help="Switch: largest Vce(sat), e.g. 0.2V.")] = None,
     max_off: Annotated[Optional[str], _opt("--max-off", help="Largest off-state current at the hot corner, e.g. 1uA.")] = None,
@@ -67,7 +69,8 @@ def choose(
         "volume": volume, "refs": refs, "qty": qty, "load": load, "max_drop": max_drop,
         "gate_drive": gate_drive, "gate_drive_drop": gate_drive_drop, "max_tj": max_tj,
         "collector_current": collector_current, "base_drive": base_drive,
-        "base_resistor": base_resistor, "overdrive": overdrive, "max_vce_sat": max_vce_sat,
+        "base_resistor": base_resistor, "base_pulldown": base_pulldown, "base_off": base_off,
+        "overdrive": overdrive, "max_vce_sat": max_vce_sat,
         "max_off": max_off, "derate_v": derate_v, "derate_i": derate_i, "tj_margin": tj_margin,
     }
     given = {k: v for k, v in options.items() if v is not None}

@@ -13,14 +13,21 @@ MAX_VOLUME, MAX_QTY = 10**9, 100_000
 MAX_MAGNITUDE = 1e12  # any quantity, in its unit (A, V, ohm, degC...): 1e24 when squared
 QUICK_SUPPLY_V, QUICK_AMBIENT_C, QUICK_VOLUME, QUICK_REFS = (3.0, 4.2), (-20.0, 50.0), 1000, ("Q?",)
 
-TOP_KEYS = ("supply", "ambient", "build", "margins", "role")
+TOP_KEYS = ("supply", "ambient", "build", "margins", "resistors", "role")
 TABLE_KEYS = {"supply": ("min", "max", "capacity"), "ambient": ("min", "max"),
-              "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin")}
+              "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin"),
+              "resistors": ("series", "tolerance", "max")}
+# [resistors] (models/README.md §10): IEC 60063's series, and the tolerance each
+# implies when the file gives none (common practice); the largest "auto" value.
+SERIES = ("E6", "E12", "E24", "E48", "E96", "E192")
+SERIES_TOLERANCE = {"E6": 0.20, "E12": 0.10, "E24": 0.05, "E48": 0.01, "E96": 0.01, "E192": 0.01}
+DEFAULT_SERIES, DEFAULT_RESISTOR_MAX_OHM, SMALLEST_RESISTOR_OHM = "E24", 2.2e6, 100.0
+BASE_OFF = ("driven", "open")  # what holds a switch's base while it is off (models/README.md §6)
 COMMON_KEYS = ("name", "refs", "use", "qty", "max_off_current")
 FAMILY_KEYS = {True: ("load", "max_drop", "gate_drive", "gate_drive_drop", "max_tj",  # by is_pass_switch
                       "gate_driver", "gate_pullup", "max_turn_off", "max_drive_current", "off_load"),
                False: ("collector_current", "base_drive", "base_resistor", "overdrive", "max_vce_sat",
-                       "base_from", "base_pulldown")}
+                       "base_from", "base_pulldown", "base_off")}
 ROLE_KEYS = COMMON_KEYS + FAMILY_KEYS[True] + FAMILY_KEYS[False]
 # (a gate driver takes its collector current from the pull-up: models/README.md §10)
 REQUIRED = {True: ("load", "max_drop"), False: ("collector_current", "base_resistor")}
@@ -69,6 +76,7 @@ RULES = {  # rule: (test the value must pass, what the message says otherwise)
 }
 EXAMPLES = {"name": '"pass"', "refs": '["Q1"]', "use": '"high-side-pmos"', "volume": "5000",
             "gate_driver": '"latch"', "base_from": '"pass"',
+            "base_off": '"driven"', "series": '"E24"', "tolerance": '"5 %"', "resistors.max": '"2.2 Mohm"',
             "supply.min": '"3.0 V"', "supply.max": '"4.2 V"', "ambient.min": '"-20 degC"',
             "ambient.max": '"45 degC"', **{k: f'"{v[3]}"' for k, v in QUANTITIES.items()}}
 

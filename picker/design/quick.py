@@ -31,7 +31,7 @@ def _doc_of(req: Requirements) -> dict:
     def role(r: Role) -> dict:
         raw = {"name": r.name, "refs": list(r.refs), "use": r.use, "qty": r.qty}
         for key in ("max_off_current",) + FAMILY_KEYS[r.is_pass_switch]:
-            if key in LINK_KEYS:
+            if key in LINK_KEYS or key not in QUANTITIES:  # a role's name, or a word
                 raw[key] = getattr(r, key)
                 continue
             field, _, rule, _ = QUANTITIES[key]
@@ -47,6 +47,9 @@ def _doc_of(req: Requirements) -> dict:
                        if v is not None},
             "ambient": {"min": a.min_C, "max": a.max_C}, "build": {"volume": req.volume},
             "margins": {"derate_v": m.derate_v, "derate_i": m.derate_i, "tj_margin": m.tj_margin_C},
+            **({} if req.resistors is None else {"resistors": {
+                "series": req.resistors.series, "tolerance": req.resistors.tolerance,
+                "max": req.resistors.max_ohm}}),
             "role": [role(r) for r in req.roles]}
 
 

@@ -19,12 +19,13 @@ import tomllib
 from dataclasses import dataclass
 
 from picker.catalog.quantities import format_quantity, parse_quantity
-from picker.design.keys import (AUTO, AUTO_KEYS, COMMON_KEYS, DRIVER_OF, EXAMPLES, FAMILY_KEYS,
-                                KIND_OF_USE, LINK_KEYS, NEEDS_DRIVER,
-                                MAX_FILE_BYTES, MAX_MAGNITUDE, MAX_QTY, MAX_REFS, MAX_ROLES,
-                                MAX_VOLUME, OPTION_KEYS, PASS_USES, QUANTITIES, QUICK_AMBIENT_C,
-                                QUICK_REFS, QUICK_SUPPLY_V, QUICK_VOLUME, REQUIRED, ROLE_KEYS,
-                                RULES, TABLE_KEYS, TOP_KEYS, USES, _a, _closest, _or)  # noqa: F401 (QUICK_*, OPTION_KEYS: re-exported)
+from picker.design.keys import (AUTO, AUTO_KEYS, BASE_OFF, COMMON_KEYS, DEFAULT_RESISTOR_MAX_OHM,  # noqa: F401 (QUICK_*, OPTION_KEYS: re-exported)
+                                DEFAULT_SERIES, DRIVER_OF, EXAMPLES, FAMILY_KEYS, KIND_OF_USE,
+                                LINK_KEYS, NEEDS_DRIVER, MAX_FILE_BYTES, MAX_MAGNITUDE, MAX_QTY,
+                                MAX_REFS, MAX_ROLES, MAX_VOLUME, OPTION_KEYS, PASS_USES, QUANTITIES,
+                                QUICK_AMBIENT_C, QUICK_REFS, QUICK_SUPPLY_V, QUICK_VOLUME, REQUIRED,
+                                ROLE_KEYS, RULES, SERIES, SERIES_TOLERANCE, SMALLEST_RESISTOR_OHM,
+                                TABLE_KEYS, TOP_KEYS, USES, _a, _closest, _or)
 from picker.design.where import _FileWhere
 from picker.errors import QuantityError, RequirementError
 
@@ -49,6 +50,17 @@ class Margins:
 
 
 @dataclass(frozen=True)
+class Resistors:
+    """The [resistors] table (models/README.md §10): the IEC 60063 series "auto"
+    values come from, their tolerance (a fraction; by default the series'
+    usual one) and the largest value an "auto" resistor may take."""
+
+    series: str = DEFAULT_SERIES
+    tolerance: float = SERIES_TOLERANCE[DEFAULT_SERIES]
+    max_ohm: float = DEFAULT_RESISTOR_MAX_OHM
+
+
+@dataclass(frozen=True)
 class Role:
     name: str
     refs: tuple[str, ...]
@@ -62,6 +74,7 @@ class Role:
     collector_current_A: float | None = None  # saturated switches (npn-switch, pnp-switch)
     base_drive_V: float | None = None         # None means "supply"
     base_resistor_ohm: float | str | None = None  # a value, or "auto" (models/README.md §10)
+    base_off: str = "driven"                  # or "open": what holds the base while off
     overdrive: float = 2.0
     max_vce_sat_V: float | None = None
     base_pulldown_ohm: float | str | None = None  # base to emitter; a value or "auto"
@@ -104,6 +117,12 @@ class Requirements:
     margins: Margins
     roles: tuple[Role, ...]
     source: str = ""  # the file path, or "command line"
+    resistors: Resistors | None = None  # no [resistors] table: a value the user gives is exact
+
+    @property
+    def resistor_tolerance(self) -> float:
+        """The fraction a resistor may be off its value (0 without a [resistors] table)."""
+        return 0.0 if self.resistors is None else self.resistors.tolerance
 
     def driver_of(self, switch: Role) -> Role | None:
         """The role whose transistor pulls `switch`'s gate (models/README.md §10), if any."""
@@ -204,6 +223,7 @@ def _build(doc: dict, where, source: str) -> Requirements:
     volume = _count(where, ("build", "volume"), build_t["volume"], MAX_VOLUME)
     margins = Margins(**{QUANTITIES[k][0]: _quantity(where, ("margins", k), v, *QUANTITIES[k][1:])
                          for k, v in margins_t.items()})
+    resistors = _resistors(where, doc) if "resistors" in doc else None
     roles = doc.get("role")
     if not roles:
         where.fail((), "no [[role]] tables: describe at least one transistor role")
@@ -226,7 +246,34 @@ def _build(doc: dict, where, source: str) -> Requirements:
             owner[ref.upper()] = role.name
         built.append(role)
     _links(where, built)
-    return Requirements(supply, ambient, volume, margins, tuple(built), source)
+    return Requirements(supply, ambient, volume, margins, tuple(built), source, resistors)
+
+
+def _resistors(where, doc: dict) -> Resistors:
+    """The [resistors] table: series, tolerance (default: the series'), max."""
+    table = _table(where, doc, "resistors", ())
+    series = table.get("series", DEFAULT_SERIES)
+    if not isinstance(series, str) or series.strip().upper() not in SERIES:
+        close = _closest(str(series).strip().upper(), SERIES, cutoff=0.5)
+        tip = f"did you mean {_or(close)}?" if close else f"one of {', '.join(SERIES)}"
+        where.fail(("resistors", "series"), f"'{series}' is not an IEC 60063 series; {tip}")
+    series = series.strip().upper()
+    tolerance = SERIES_TOLERANCE[series]
+    if "tolerance" in table:
+        tolerance = _quantity(where, ("resistors", "tolerance"), table["tolerance"], "1",
+                              "non-negative", "5 %")
+        if tolerance >= 1:
+            where.fail(("resistors", "tolerance"), f"'{table['tolerance']}' is {tolerance:.4g} "
+                       f"× the value, {tolerance * 100:.4g} %: a tolerance is under 100 %; "
+                       'write it with its unit, e.g. "5 %" (or 0.05)')
+    max_ohm = DEFAULT_RESISTOR_MAX_OHM
+    if "max" in table:
+        max_ohm = _quantity(where, ("resistors", "max"), table["max"], "ohm", "positive", "2.2 Mohm")
+        if max_ohm < SMALLEST_RESISTOR_OHM:
+            where.fail(("resistors", "max"), f"'{table['max']}' is below "
+                       f"{format_quantity(SMALLEST_RESISTOR_OHM, 'ohm')}, the smallest value an "
+                       '"auto" resistor takes; e.g. max = "2.2 Mohm"')
+    return Resistors(series, tolerance, max_ohm)
 
 
 def _links(where, roles: list[Role]) -> None:
@@ -339,6 +386,8 @@ def _role(where, i: int, raw: dict, drivers: frozenset = frozenset()) -> Role:
     values = {QUANTITIES[k][0]: AUTO if _is_auto(v) and k in AUTO_KEYS
               else _quantity(where, (*here, k), v, *QUANTITIES[k][1:])
               for k, v in raw.items() if k in QUANTITIES}
+    if "base_off" in raw:
+        values["base_off"] = _choice(where, (*here, "base_off"), raw["base_off"], BASE_OFF)
     links = {k: raw[k].strip() for k in LINK_KEYS if k in raw}
     qty = _count(where, (*here, "qty"), raw["qty"], MAX_QTY) if "qty" in raw else None
     return Role(name=name.strip(), refs=refs, use=use, qty=qty, **values, **links)
@@ -373,6 +422,17 @@ def _link_keys(where, here: tuple, raw: dict, is_pass: bool) -> None:
         if _is_auto(raw.get("base_pulldown")) and "base_from" not in raw:
             where.fail((*here, "base_pulldown"), '"auto" is chosen against the leakage of the switch '
                                                  "that feeds the base: it needs base_from")
+
+
+def _choice(where, path: tuple, value, choices: tuple[str, ...]) -> str:
+    """A word out of `choices` (case and surrounding spaces ignored)."""
+    word = value.strip().lower() if isinstance(value, str) else None
+    if word not in choices:
+        listed = " or ".join(f'"{c}"' for c in choices)
+        close = _closest(word, choices, cutoff=0.5) if word else []
+        tip = f"; did you mean {_or(close)}?" if close else ""
+        where.fail(path, f"'{value}' must be {listed}{tip}")
+    return word
 
 
 # -- public entry points -----------------------------------------------------------------------

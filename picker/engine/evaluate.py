@@ -34,11 +34,26 @@ HOURS_PER_YEAR = 8766.0  # 365.25 days
 BLOCK_ROWS = 65_536  # parts evaluated together (see `in_blocks`)
 NOTE_FLAGS = {  # flag column -> note text
     "extrapolated": "extrapolated",
+    "far_below_data": "far below data",
+    "vbe_assumed": "vbe assumed",
     "below_first_break": "below first break",
     "not_guaranteed": "not guaranteed",
     "no_price": "no price",
     "eol": "eol",
     "nrnd": "nrnd",
+}
+NOTE_MEANINGS = {  # note text -> what it means, for the legend under a table
+    "extrapolated": "a figure read past the datasheet's points (picker/models/README.md §1, §6)",
+    "far below data": "the collector current is under a tenth of the lowest hFE point's: the "
+                      "gain there is a guess, and real gain falls faster (models/README.md §6)",
+    "vbe assumed": "no Vbe(sat) or Vbe(on) in the catalogue: 0.75 V assumed at 25 °C "
+                   "(models/README.md §6)",
+    "not guaranteed": "the circuit forces a gain Ic/Ib above 10, the datasheet's Vce(sat) "
+                      "condition: the Vce(sat) figure is not guaranteed (models/README.md §6)",
+    "below first break": "the quantity is below the lowest price break: its price is used",
+    "no price": "no price in the catalogue",
+    "eol": "end of life",
+    "nrnd": "not recommended for new designs",
 }
 
 

@@ -13,7 +13,8 @@ from picker.models import mosfet
 # The numeric catalogue columns the models read (besides the '@' point families).
 MODEL_NUMBERS = {"vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "vgs_th_tc_mV/C",
                  "rds_tc_pct/C", "idss_uA", "idss_hot_uA", "idss_hot_C", "vceo_max_V", "ic_max_A",
-                 "vbe_on_V", "icbo_nA", "icbo_hot_nA", "icbo_hot_C", "rth_ja_C/W", "tj_max_C"}
+                 "vbe_on_V", "vbe_sat_max_V", "hfe_max", "icbo_nA", "icbo_hot_nA", "icbo_hot_C",
+                 "rth_ja_C/W", "tj_max_C"}
 
 
 class PartData:

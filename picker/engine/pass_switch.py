@@ -18,7 +18,8 @@ PASS_SWITCH_CHECKS = ("gate_drive", "drop", "tj", "off_current", "vds_rating", "
                       "id_rating")
 PASS_SWITCH_FIGURES = ("vgs_V", "rds_on_ohm", "drop_V", "loss_W", "tj_C", "off_current_A", "corner")
 # Catalogue values a candidate row carries as they are (the reasons quote them).
-PASS_SWITCH_RATINGS = ("vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "rth_ja_C/W", "tj_max_C")
+PASS_SWITCH_RATINGS = ("vds_max_V", "vgs_max_V", "id_max_A", "vgs_th_max_V", "rth_ja_C/W", "tj_max_C",
+                       "idss_uA")
 
 
 def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:

@@ -46,8 +46,12 @@ def _fail_text(check: str, row: pd.Series, role, req) -> str:
             return "thermal runaway: the junction temperature does not settle"
         return f"Tj {row['tj_C']:.0f} °C > {row['tj_limit_C']:.0f} °C limit"
     if check == "off_current":
+        how = ""
+        if row.get("open_base", False):
+            how = (f" (open base: (1 + hFE max) × Icbo = (1 + {_hot_hfe_max(row, req):.0f}) × "
+                   f"{_v(row['icbo_hot_A'], 'A')})")
         return (f"off current {_v(row['off_current_A'], 'A')} > "
-                f"{_v(role.max_off_current_A, 'A')} at {req.ambient.max_C:g} °C")
+                f"{_v(role.max_off_current_A, 'A')} at {req.ambient.max_C:g} °C{how}")
     if check == "vds_rating":
         return _derated("Vds", row["vds_max_V"], dv, "V", f"{req.supply.max_V:g} V supply")
     if check == "vgs_rating":
@@ -55,6 +59,8 @@ def _fail_text(check: str, row: pd.Series, role, req) -> str:
     if check == "id_rating":
         return _derated("Id", row["id_max_A"], di, "A", f"{_v(role.load_A, 'A')} load")
     if check == "saturation":
+        if row.get("base_off_state", False):
+            return _base_off_text(row, role, req)
         return (f"Ib·hFE = {_v(row['ib_A'], 'A')} × {row['hfe']:.0f} = "
                 f"{_v(row['ib_A'] * row['hfe'], 'A')} < {role.overdrive:g} × "
                 f"{_v(role.collector_current_A, 'A')} at the cold corner")
@@ -66,6 +72,23 @@ def _fail_text(check: str, row: pd.Series, role, req) -> str:
         return (f"Ic rating {_v(row['ic_max_A'], 'A')} × {di:g} < "
                 f"{_v(role.collector_current_A, 'A')}")
     return f"{check} fails"
+
+
+def _hot_hfe_max(row, req) -> float:
+    from picker.models.bipolar import hfe_at_temperature
+
+    return float(hfe_at_temperature(row["hfe_max"], req.ambient.max_C))
+
+
+def _base_off_text(row, role, req) -> str:
+    """Why the base network does not turn the switch on (Ib <= 0)."""
+    drive = req.supply.min_V if role.base_drive_V is None else role.base_drive_V
+    vbe = _v(row["vbe_cold_V"], "V")
+    if role.base_pulldown_ohm is None:
+        return (f"off: the base drive {_v(drive, 'V')} is not above Vbe {vbe} at the cold corner")
+    return (f"off: the base drive {_v(drive, 'V')} through {_v(role.base_resistor_ohm, 'ohm')} "
+            f"cannot lift the base against the {_v(role.base_pulldown_ohm, 'ohm')} pull-down to "
+            f"Vbe {vbe} at the cold corner")
 
 
 def _derated(name: str, rating: float, factor: float, unit: str, limit: str) -> str:
@@ -89,6 +112,23 @@ def _unknown_text(check: str, row: pd.Series, role, req) -> str:
     if check in ("drop", "tj") and int(row.get("check_gate_drive", PASS)) == FAIL:
         return f"{check} not evaluated: the gate is not driven on"
     if check == "vce_sat" and row.get("not_guaranteed", False):
+        if row.get("base_off_state", False):
+            return "Vce(sat) not guaranteed: the switch is not turned on"
         return (f"Vce(sat) not guaranteed: forced gain {row['forced_gain']:.0f} > 10, "
                 "the datasheet condition")
+    if check == "off_current":
+        return _off_unknown_text(row, role)
     return f"{check} unknown: no {_NEEDS.get(check, 'data')}"
+
+
+def _off_unknown_text(row, role) -> str:
+    """Why the off-state current is unknown (models/README.md §4, §6)."""
+    bipolar = not role.is_pass_switch
+    cold = "icbo_nA" if bipolar else "idss_uA"
+    if bipolar and row.get("open_base", False) and math.isfinite(row.get("icbo_hot_A", math.nan)):
+        return ("off current unknown: an open base leaks (1 + hFE max) × Icbo, and the "
+                "catalogue has no hfe_max")
+    if row.get(cold) == 0:
+        return (f"off current unknown: {cold} is 0 in the catalogue (read as blank: a zero is "
+                "usually a dash typed as a number) and there is no hot leakage point")
+    return f"off current unknown: no {cold}"

@@ -80,8 +80,10 @@ class KindParts:
       because R only falls as the drive rises.
     - hFE (log-log) and Vce(sat) (linear), models/README.md §6: interpolated only
       between the candidate's own points; outside them it lacks the data
-      (gain falls at both ends of the current range, so the end value would
-      flatter it).
+      (what the method continues past the points is an estimate, not a
+      guarantee to compare with one).
+    - leakage at 25 °C: a zero is read as blank (models/README.md §4); the hot
+      point through the method's own rule (a falling hot point left out).
     """
 
     def __init__(self, df: pd.DataFrame, positions: np.ndarray, kind: str) -> None:
@@ -106,12 +108,19 @@ class KindParts:
             v = values(sub, name)
             crit.append((Criterion(label, unit, higher), v, v))
 
+        def leak(label, name, unit):
+            # A zero leakage figure is read as blank (models/README.md §4): it
+            # would otherwise beat every real figure.
+            v = values(sub, name)
+            v = np.where(v == 0, np.nan, v)
+            crit.append((Criterion(label, unit, False), v, v))
+
         if kind in cols.MOSFET_KINDS:
             for label, name, unit in (("Vds rating", "vds_max_V", "V"), ("Vgs rating", "vgs_max_V", "V"),
                                       ("Id rating", "id_max_A", "A"), ("Tj max", "tj_max_C", "°C")):
                 plain(label, name, unit, True)
             plain("Vgs(th) max", "vgs_th_max_V", "V", False)
-            plain("Idss", "idss_uA", "µA", False)
+            leak("Idss", "idss_uA", "µA")
             drives, rds = points(sub, "rds_on_mohm")
             vt = values(sub, "vgs_th_max_V")
             fit = mosfet.fit_on_resistance(drives, rds, vt)
@@ -130,7 +139,12 @@ class KindParts:
             for label, name, unit in (("Vceo rating", "vceo_max_V", "V"), ("Ic rating", "ic_max_A", "A"),
                                       ("Tj max", "tj_max_C", "°C")):
                 plain(label, name, unit, True)
-            plain("Icbo", "icbo_nA", "nA", False)
+            leak("Icbo", "icbo_nA", "nA")
+            # A saturated switch's base sits at Vbe(sat): a higher one leaves less
+            # base current; a higher maximum gain lets an open base leak more
+            # (models/README.md §6).
+            plain("Vbe(sat) max", "vbe_sat_max_V", "V", False)
+            plain("hFE max", "hfe_max", "", False)
             for prefix, label, unit, higher, log in (("hfe_min", "hFE", "", True, True),
                                                      ("vce_sat_mV", "Vce(sat)", "mV", False, False)):
                 currents, data = points(sub, prefix)
@@ -141,7 +155,7 @@ class KindParts:
                     if log:
                         between = bipolar.hfe_at_current(currents, data, current)[0]
                     else:
-                        between = bipolar.vce_sat_at_current(currents, data, current)
+                        between = bipolar.vce_sat_at_current(currents, data, current).value
                     inside = (current >= low) & (current <= high)
                     cand = np.where(finite[:, j], data[:, j], np.where(inside, between, np.nan))
                     crit.append((Criterion(f"{label} at {current:g} mA", unit, higher), data[:, j], cand))
