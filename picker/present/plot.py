@@ -220,7 +220,7 @@ def _gain_chart(parts, role, req, points) -> Chart:
     for i, name in enumerate(names):
         xp = np.broadcast_to(cur[i] / 1000.0, (points, cur.shape[1]))
         fp = np.broadcast_to(hfe[i], (points, hfe.shape[1]))
-        gain, _ = bipolar.hfe_at_current(xp, fp, grid_mA / 1000.0)
+        gain = bipolar.hfe_at_current(xp, fp, grid_mA / 1000.0).hfe
         series.append(Series(f"{name} hFE min, log-log between points", grid_mA, gain, i, "fit",
                              name))
         series.append(Series(f"{name} datasheet min at 25 °C", cur[i][used[i]], hfe[i][used[i]],
@@ -228,8 +228,9 @@ def _gain_chart(parts, role, req, points) -> Chart:
     chart = Chart("fit", f"{role.name}: minimum gain against collector current at 25 °C",
                   "collector current (mA)", "hFE min (ratio)", series,
                   vlines=[(ic_mA, f"Ic {ic_mA:g} mA")], x_scale=1000.0, log_x=True)
-    chart.notes.append("below the lowest point the lowest point's gain is used, above the "
-                       "highest the highest's (models/README.md §6)")
+    chart.notes.append("past the end points the gain continues along an end segment that "
+                       "falls toward that end, and is held where it does not; under a tenth of "
+                       "the lowest point's current it is far below data (models/README.md §6)")
     return chart
 
 
