@@ -450,7 +450,7 @@ def test_override_errors(two_roles, given, role, message):
     assert str(err.value).startswith(message), str(err.value)
 
 
-# -- method v2: [resistors], base_pulldown, base_off (interfaces.md, models/README.md §6, §10) -----
+# -- method v2: [resistors], base_pulldown, base_off (interfaces.md, models/README.md §6) -----
 
 V2_BASE = """[supply]
 min = "3.0 V"
@@ -497,14 +497,14 @@ def test_v2_keys_read_in_si():
 @pytest.mark.parametrize("series, tolerance", [("E6", 0.20), ("E12", 0.10), ("E24", 0.05),
                                                ("e48", 0.01), ("E96", 0.01), ("E192", 0.01)])
 def test_series_default_tolerance(series, tolerance):
-    """models/README.md §10: without a tolerance the series' usual one (common practice)."""
+    """models/README.md §6: without a tolerance the series' usual one (common practice)."""
     req = parse_requirements(v2_edit(11, None).replace('"E24"', f'"{series}"'), "v2.toml")
     assert (req.resistors.series, req.resistors.tolerance) == (series.upper(), tolerance)
 
 
 def test_defaults_without_the_table_or_its_keys():
     """No [resistors] table: a value given is exact (tolerance 0); an empty table:
-    E24, 5 %, 2.2 MΩ (models/README.md §10); no base_off: "driven"; no pull-down: None."""
+    E24, 5 %, 2.2 MΩ (models/README.md §6); no base_off: "driven"; no pull-down: None."""
     plain = "\n".join(line for i, line in enumerate(V2_BASE.split("\n"), 1) if not 9 <= i <= 12)
     req = parse_requirements(plain.replace('base_pulldown = "2.2 Mohm"\n', "")
                              .replace('base_off = "open"\n', ""), "v2.toml")

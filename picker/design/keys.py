@@ -17,7 +17,7 @@ TOP_KEYS = ("supply", "ambient", "build", "margins", "resistors", "role")
 TABLE_KEYS = {"supply": ("min", "max", "capacity"), "ambient": ("min", "max"),
               "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin"),
               "resistors": ("series", "tolerance", "max")}
-# [resistors] (models/README.md §10): IEC 60063's series, and the tolerance each
+# [resistors] (models/README.md §6): IEC 60063's series, and the tolerance each
 # implies when the file gives none (common practice); the largest "auto" value.
 SERIES = ("E6", "E12", "E24", "E48", "E96", "E192")
 SERIES_TOLERANCE = {"E6": 0.20, "E12": 0.10, "E24": 0.05, "E48": 0.01, "E96": 0.01, "E192": 0.01}

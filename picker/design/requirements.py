@@ -51,7 +51,7 @@ class Margins:
 
 @dataclass(frozen=True)
 class Resistors:
-    """The [resistors] table (models/README.md §10): the IEC 60063 series "auto"
+    """The [resistors] table (models/README.md §6): the IEC 60063 series "auto"
     values come from, their tolerance (a fraction; by default the series'
     usual one) and the largest value an "auto" resistor may take."""
 
