@@ -160,9 +160,10 @@ def _refuse_linked(role: Role, req: Requirements) -> None:
     leave the links out."""
     from picker.errors import RequirementError
 
-    keys = [k for k, v in (("gate_driver", role.gate_driver), ("base_from", role.base_from),
-                           ("base_pulldown", role.base_pulldown_ohm)) if v is not None]
-    keys += ["base_resistor"] if role.base_resistor_ohm == "auto" else []
+    keys = [k for k, v in (("gate_driver", role.gate_driver), ("base_from", role.base_from))
+            if v is not None]
+    keys += [k for k, v in (("base_resistor", role.base_resistor_ohm),
+                            ("base_pulldown", role.base_pulldown_ohm)) if v == "auto"]
     if keys or (not role.is_pass_switch and role.collector_current_A is None):
         raise RequirementError(f"role '{role.name}': {', '.join(keys) or 'a gate driver'} "
                                "(models/README.md §10) cannot be evaluated by this version of "
