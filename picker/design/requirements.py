@@ -19,13 +19,13 @@ import tomllib
 from dataclasses import dataclass
 
 from picker.catalog.quantities import format_quantity, parse_quantity
-from picker.design.keys import (AUTO, AUTO_KEYS, BASE_OFF, COMMON_KEYS, DEFAULT_RESISTOR_MAX_OHM,  # noqa: F401 (QUICK_*, OPTION_KEYS: re-exported)
-                                DEFAULT_SERIES, DRIVER_OF, EXAMPLES, FAMILY_KEYS, KIND_OF_USE,
+from picker.design.keys import (AUTO, AUTO_KEYS, BASE_OFF, COMMON_KEYS,  # noqa: F401 (QUICK_*, OPTION_KEYS: re-exported)
+                                DRIVER_OF, EXAMPLES, FAMILY_KEYS, KIND_OF_USE,
                                 LINK_KEYS, NEEDS_DRIVER, MAX_FILE_BYTES, MAX_MAGNITUDE, MAX_QTY,
                                 MAX_REFS, MAX_ROLES, MAX_VOLUME, OPTION_KEYS, PASS_USES, QUANTITIES,
                                 QUICK_AMBIENT_C, QUICK_REFS, QUICK_SUPPLY_V, QUICK_VOLUME, REQUIRED,
-                                ROLE_KEYS, RULES, SERIES, SERIES_TOLERANCE, SMALLEST_RESISTOR_OHM,
-                                TABLE_KEYS, TOP_KEYS, USES, _a, _closest, _or)
+                                ROLE_KEYS, RULES, TABLE_KEYS, TOP_KEYS, USES, _a, _closest, _or)
+from picker.design.resistors import Resistors, read_resistors  # noqa: F401 (Resistors: re-exported)
 from picker.design.where import _FileWhere
 from picker.errors import QuantityError, RequirementError
 
@@ -47,17 +47,6 @@ class Margins:
     derate_v: float = 0.8      # common practice (models/README.md §6)
     derate_i: float = 0.5      # common practice (models/README.md §6)
     tj_margin_C: float = 25.0  # below the part's tj_max_C, common practice (models/README.md §3)
-
-
-@dataclass(frozen=True)
-class Resistors:
-    """The [resistors] table (models/README.md §6): the IEC 60063 series "auto"
-    values come from, their tolerance (a fraction; by default the series'
-    usual one) and the largest value an "auto" resistor may take."""
-
-    series: str = DEFAULT_SERIES
-    tolerance: float = SERIES_TOLERANCE[DEFAULT_SERIES]
-    max_ohm: float = DEFAULT_RESISTOR_MAX_OHM
 
 
 @dataclass(frozen=True)
@@ -223,7 +212,8 @@ def _build(doc: dict, where, source: str) -> Requirements:
     volume = _count(where, ("build", "volume"), build_t["volume"], MAX_VOLUME)
     margins = Margins(**{QUANTITIES[k][0]: _quantity(where, ("margins", k), v, *QUANTITIES[k][1:])
                          for k, v in margins_t.items()})
-    resistors = _resistors(where, doc) if "resistors" in doc else None
+    resistors = (read_resistors(where, _table(where, doc, "resistors", ()), _quantity)
+                 if "resistors" in doc else None)
     roles = doc.get("role")
     if not roles:
         where.fail((), "no [[role]] tables: describe at least one transistor role")
@@ -247,33 +237,6 @@ def _build(doc: dict, where, source: str) -> Requirements:
         built.append(role)
     _links(where, built)
     return Requirements(supply, ambient, volume, margins, tuple(built), source, resistors)
-
-
-def _resistors(where, doc: dict) -> Resistors:
-    """The [resistors] table: series, tolerance (default: the series'), max."""
-    table = _table(where, doc, "resistors", ())
-    series = table.get("series", DEFAULT_SERIES)
-    if not isinstance(series, str) or series.strip().upper() not in SERIES:
-        close = _closest(str(series).strip().upper(), SERIES, cutoff=0.5)
-        tip = f"did you mean {_or(close)}?" if close else f"one of {', '.join(SERIES)}"
-        where.fail(("resistors", "series"), f"'{series}' is not an IEC 60063 series; {tip}")
-    series = series.strip().upper()
-    tolerance = SERIES_TOLERANCE[series]
-    if "tolerance" in table:
-        tolerance = _quantity(where, ("resistors", "tolerance"), table["tolerance"], "1",
-                              "non-negative", "5 %")
-        if tolerance >= 1:
-            where.fail(("resistors", "tolerance"), f"'{table['tolerance']}' is {tolerance:.4g} "
-                       f"× the value, {tolerance * 100:.4g} %: a tolerance is under 100 %; "
-                       'write it with its unit, e.g. "5 %" (or 0.05)')
-    max_ohm = DEFAULT_RESISTOR_MAX_OHM
-    if "max" in table:
-        max_ohm = _quantity(where, ("resistors", "max"), table["max"], "ohm", "positive", "2.2 Mohm")
-        if max_ohm < SMALLEST_RESISTOR_OHM:
-            where.fail(("resistors", "max"), f"'{table['max']}' is below "
-                       f"{format_quantity(SMALLEST_RESISTOR_OHM, 'ohm')}, the smallest value an "
-                       '"auto" resistor takes; e.g. max = "2.2 Mohm"')
-    return Resistors(series, tolerance, max_ohm)
 
 
 def _links(where, roles: list[Role]) -> None:
