@@ -1,4 +1,6 @@
-"""Benchmark: `evaluate_role` over a synthetic catalogue of 100,000 MOSFETs.
+"""Benchmark: `evaluate_role` over a synthetic catalogue of 100,000 MOSFETs
+(or, with --kind npn, 100,000 NPN switches: a latch role with a pull-down, an
+open base and a [resistors] tolerance, so every v2 switch rule runs).
 
 The catalogue is built directly as a DataFrame in the loader's format (the
 columns and units of `picker.catalog.load.load_catalog`'s result: one row per part,
@@ -7,7 +9,7 @@ spreads like a real low-voltage MOSFET list and some blank cells. One
 high-side pass-switch role; the median of 5 runs of `evaluate_role` (the
 catalogue already loaded). Target: under 0.2 s for 100k parts on a laptop.
 
-    PYTHONPATH=. python scripts/bench_engine.py [--parts N] [--runs R] [--profile]
+    PYTHONPATH=. python scripts/bench_engine.py [--parts N] [--runs R] [--kind pmos|npn] [--profile]
 """
 
 from __future__ import annotations
@@ -102,15 +104,88 @@ def synthetic_catalog(n: int, seed: int = 20240611) -> pd.DataFrame:
     return df
 
 
+SWITCH_REQUIREMENTS = """
+[supply]
+min = "3.0 V"
+max = "4.2 V"
+[ambient]
+min = "-20 degC"
+max = "45 degC"
+[build]
+volume = 5000
+[resistors]
+series = "E24"
+[[role]]
+name = "latch"
+refs = ["Q2", "Q3"]
+use = "npn-switch"
+collector_current = "45 uA"
+base_drive = "supply"
+base_resistor = "1 Mohm"
+base_pulldown = "2.2 Mohm"
+base_off = "open"
+max_vce_sat = "0.2 V"
+max_off_current = "0.05 uA"
+"""
+
+
+def synthetic_switches(n: int, seed: int = 20240612) -> pd.DataFrame:
+    """n invented NPN parts: gain points at 0.1/1/10/100 mA with roll-off at
+    both ends, Vce(sat) points, Vbe(sat), hFE max, leakage with some hot points
+    (some falling, some zero), about 3 % blank cells per column."""
+    rng = np.random.default_rng(seed)
+
+    def blank(values: np.ndarray, fraction: float = 0.03) -> np.ndarray:
+        values = values.astype(float)
+        values[rng.random(n) < fraction] = np.nan
+        return values
+
+    peak = np.round(rng.uniform(80.0, 400.0, n))
+    price1 = np.round(rng.uniform(0.02, 0.2, n), 3)
+    df = pd.DataFrame({
+        "part": [f"SYB-{i:06d}" for i in range(n)],
+        "maker": rng.choice(["Synth A", "Synth B", "Synth C"], n),
+        "kind": "npn",
+        "package": rng.choice(["SOT-23", "SOT-323", "SOT-723"], n),
+        "status": rng.choice(["active", "nrnd", "eol"], n, p=[0.9, 0.07, 0.03]),
+        "preferred": rng.random(n) < 0.1,
+        "vceo_max_V": blank(rng.choice([20.0, 30.0, 45.0, 65.0], n)),
+        "ic_max_A": blank(rng.choice([0.1, 0.2, 0.5], n)),
+        "hfe_min@0.1mA": blank(np.round(peak * rng.uniform(0.4, 0.8, n)), 0.3),
+        "hfe_min@1mA": blank(np.round(peak * rng.uniform(0.8, 1.0, n))),
+        "hfe_min@10mA": blank(peak),
+        "hfe_min@100mA": blank(np.round(peak * rng.uniform(0.5, 0.9, n)), 0.4),
+        "vce_sat_mV@10mA": blank(np.round(rng.uniform(40.0, 120.0, n))),
+        "vce_sat_mV@100mA": blank(np.round(rng.uniform(150.0, 400.0, n)), 0.3),
+        "vbe_on_V": blank(np.full(n, 0.65), 0.5),
+        "vbe_sat_max_V": blank(np.round(rng.uniform(0.8, 0.95, n), 2), 0.3),
+        "hfe_max": blank(np.round(peak * rng.uniform(2.0, 3.0, n)), 0.3),
+        "icbo_nA": blank(rng.choice([0.0, 1.0, 10.0, 15.0, 50.0], n, p=[0.02, 0.3, 0.4, 0.2, 0.08])),
+        "icbo_hot_nA": blank(rng.choice([0.5, 500.0, 5000.0], n), 0.7),
+        "icbo_hot_C": blank(np.full(n, 100.0), 0.7),
+        "rth_ja_C/W": blank(np.round(rng.uniform(250.0, 650.0, n))),
+        "tj_max_C": blank(np.full(n, 150.0)),
+        "price@1": blank(price1, 0.02),
+        "price@1000": blank(np.round(price1 * 0.22, 4), 0.02),
+        "price@10000": blank(np.round(price1 * 0.16, 4), 0.1),
+    }, index=pd.Index(np.arange(2, n + 2), name="line"))
+    df.loc[df["icbo_hot_nA"].isna(), "icbo_hot_C"] = np.nan
+    return df
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--parts", type=int, default=100_000)
     ap.add_argument("--runs", type=int, default=5)
+    ap.add_argument("--kind", choices=("pmos", "npn"), default="pmos",
+                    help="pmos: a pass switch role; npn: a saturated switch role")
     ap.add_argument("--profile", action="store_true", help="cProfile one run, top 25 by cumulative time")
     args = ap.parse_args()
 
-    df = synthetic_catalog(args.parts)
-    req = parse_requirements(REQUIREMENTS, "bench")
+    if args.kind == "npn":
+        df, req = synthetic_switches(args.parts), parse_requirements(SWITCH_REQUIREMENTS, "bench")
+    else:
+        df, req = synthetic_catalog(args.parts), parse_requirements(REQUIREMENTS, "bench")
     role = req.roles[0]
     evaluate_role(df, role, req)  # warm-up: imports, first allocations
 
