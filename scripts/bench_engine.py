@@ -121,11 +121,10 @@ refs = ["Q2", "Q3"]
 use = "npn-switch"
 collector_current = "45 uA"
 base_drive = "supply"
-base_resistor = "1 Mohm"
+base_resistor = "470 kohm"
 base_pulldown = "2.2 Mohm"
 base_off = "open"
-max_vce_sat = "0.2 V"
-max_off_current = "0.05 uA"
+max_off_current = "0.5 uA"
 """
 
 
@@ -200,8 +199,9 @@ def main() -> None:
           f"{median:.3f} s ({args.parts / median:,.0f} parts/s); runs: "
           + ", ".join(f"{t:.3f}" for t in times))
     scale = args.parts / 100_000
-    print(f"target {TARGET_S * scale:.3f} s for {args.parts:,}: "
-          + ("met" if median <= TARGET_S * scale else "MISSED"))
+    if args.kind == "pmos":  # the target is the pass switch's
+        print(f"target {TARGET_S * scale:.3f} s for {args.parts:,}: "
+              + ("met" if median <= TARGET_S * scale else "MISSED"))
 
     if args.profile:
         import cProfile
