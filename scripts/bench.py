@@ -100,6 +100,14 @@ def main(argv: list[str]) -> None:
                  f"{stack_s * 1000:.0f} ms (import pandas, numpy, typer, rich, rapidfuzz)",
                  f"{choose_s / stack_s:.2f}x", "<= 1.3x"))
 
+    # 1b. the design report beside the choice it reports, on the same file
+    report_out = str(work / "design-review.html")
+    report_s, plain_s = paired(picker + ["report", example, "-o", report_out, "--force"],
+                               picker + ["choose", example], max(args.runs, 11))
+    rows.append(("picker report (demo, HTML)", f"{report_s * 1000:.0f} ms",
+                 f"{plain_s * 1000:.0f} ms (picker choose, same file)",
+                 f"{report_s / plain_s:.2f}x", "<= 2x"))
+
     # 2. the engine alone: one pass-switch role over `big` P-channel parts
     from picker.engine.evaluate import evaluate_role
     from picker.design.requirements import load_requirements

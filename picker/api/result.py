@@ -182,6 +182,46 @@ class Result:
         """True when every role has a choice (`picker choose` then exits 0)."""
         return not self._engine.missing and all(not r.feasible.empty for r in self._engine.roles)
 
+    def to_html(self, *, review=None, top: int = 5, made: str | None = None) -> str:
+        """The design review as one self-contained HTML page (what `picker report
+        -o FILE.html` writes): the inputs and where each came from, the
+        catalogue's identity, per role the choice, the runners-up, every check,
+        the near misses and the curves, the totals and the cautions. `review`
+        (a `picker.review(...)`) adds the BOM's cost-down review; `top` sets the
+        runners-up and near misses shown; `made` the date shown (default: now).
+
+        >>> import picker
+        >>> result = picker.choose(picker.load_design("catalog/examples/kettlewick-power.toml"))
+        >>> page = result.to_html()
+        >>> page.startswith("<!DOCTYPE html>") and result.roles["latch"].choice in page
+        True
+        """
+        from picker.api.report import report_text
+
+        return report_text(self, fmt="html", review=review, top=top, made=made)
+
+    def to_markdown(self, *, review=None, top: int = 5, made: str | None = None) -> str:
+        """The design review as Markdown (what `picker report -o FILE.md` writes);
+        the same content as `to_html`, the curves as SVG images inside the file.
+
+        >>> import picker
+        >>> text = picker.choose(picker.design(use="npn-switch", collector_current="40 uA",
+        ...                                    base_resistor="68k")).to_markdown()
+        >>> text.splitlines()[0]
+        '# Design review: quick question'
+        """
+        from picker.api.report import report_text
+
+        return report_text(self, fmt="markdown", review=review, top=top, made=made)
+
+    def _repr_html_(self) -> str:  # a notebook shows the summary table
+        from html import escape
+
+        rows = "".join(f"<tr><td>{escape(n)}</td><td>{escape(str(r.choice))}</td></tr>"
+                       for n, r in self.roles.items())
+        return (f"<table><tr><th>role</th><th>choice</th></tr>{rows}</table>"
+                f"<p>cost per board {self.cost_per_board:.4g}</p>")
+
     def __repr__(self) -> str:
         choices = ", ".join(f"{n}: {r.choice}" for n, r in self.roles.items())
         return f"<picker.Result {choices}; {self.cost_per_board:.4g} per board>"

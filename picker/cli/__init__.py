@@ -51,6 +51,7 @@ from picker.cli import catalog_cmd  # noqa: E402,F401
 from picker.cli import choose_cmd  # noqa: E402,F401
 from picker.cli import import_cmd  # noqa: E402,F401
 from picker.cli import lineup_cmd  # noqa: E402,F401
+from picker.cli import report_cmd  # noqa: E402,F401
 from picker.cli import review_cmd  # noqa: E402,F401
 
 

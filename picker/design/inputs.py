@@ -126,6 +126,8 @@ def inputs(req: Requirements, *, text: str | None = None, given: dict | None = N
                 source = ASSUMED
             else:
                 source = DEFAULT
+            if source == DEFAULT and value in (_AS_WRITTEN, "not set"):
+                continue  # a key this role does not use (a link it does not make)
             out.append(Input(f"role {role.name}", key, value, source))
     return out
 
