@@ -120,7 +120,8 @@ def build(design: DesignResult, doc: dict, *, inputs: list, catalogue: dict, mad
                         "maker": c["maker"] if c else None, "package": c["package"] if c else None,
                         "unit_price": c["unit_price"] if c else None, "cost": c["cost"] if c else None,
                         "feasible": f"{block.n_feasible} of {block.n_candidates}"})
-    name = req.source.replace("\\", "/").rsplit("/", 1)[-1] if req.source else "quick question"
+    quick = req.source in ("", "command line")
+    name = "quick question" if quick else req.source.replace("\\", "/").rsplit("/", 1)[-1]
     return ReportDoc(f"Design review: {name}", made, version, method_name(), req.source,
                      inputs, catalogue, summary, totals(design), roles, review, review_source,
                      list(CAUTIONS))
