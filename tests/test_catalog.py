@@ -126,7 +126,7 @@ RULES = [
     ("wrong unit", [GOOD_P.replace(",40,60,", ",45 mA,60,")], (2, col("rds_on_mohm@4.5V"), "error", "is a current; expected a resistance")),
     ("negative rating", [GOOD_N.replace(",20,8,3,", ",-20,8,3,")], (2, col("vds_max_V"), "error", "negative rating")),
     ("threshold min above max", [GOOD_P.replace(",0.4,1.0,", ",1.2,1.0,")], (2, col("vgs_th_min_V"), "error", "is above vgs_th_max_V")),
-    ("rds point at threshold", [GOOD_P.replace(",0.4,1.0,", ",0.4,2.5,")], (2, col("rds_on_mohm@2.5V"), "error", "at or below vgs_th_max_V")),
+    ("rds point at threshold", [GOOD_P.replace(",0.4,1.0,", ",0.4,2.5,")], (2, col("rds_on_mohm@2.5V"), "warning", "at or below vgs_th_max_V")),
     ("too many fields", [GOOD_P + ",extra"], (2, len(COLUMNS) + 1, "error", "separator is missing or doubled")),
     ("rds not falling", [GOOD_P.replace(",40,60,", ",70,60,")], (2, col("rds_on_mohm@4.5V"), "warning", "does not fall")),
     ("price rising", [GOOD_P.replace(",0.2,0.05,", ",0.2,0.25,")], (2, col("price@1000"), "warning", "rises with quantity")),

@@ -37,6 +37,27 @@ def test_check_as_json_lists_problems(tmp_path):
                          "message": "vgs_th_min_V 1.5 V is above vgs_th_max_V 1.2 V; swap or correct them"}]
 
 
+def test_a_point_at_the_threshold_is_a_warning_and_the_part_stays(tmp_path):
+    """TQP-200's threshold raised to 2.5 V puts its 2.5 V point at the
+    threshold: `catalog check` lists a warning at line 3, column 13 (the
+    rds_on_mohm@2.5V cell), exits 0, and the part is still evaluated from its
+    4.5 V point (picker/models/README.md §1): R_fix = 0, K = 0.055·(4.5 -
+    2.5) = 0.11 Ω·V, so at 4.5 V drive its small-current figure is 55 mΩ."""
+    path = tmp_path / "edge.csv"
+    path.write_text(TINY_CSV.replace(",0.5,1.2,55,80,", ",0.5,2.5,55,80,"))
+    result = invoke("catalog", "check", str(path))
+    assert result.exit_code == 0, result.output
+    assert (f"{path}:3:13: warning: on-resistance given at 2.5 V gate drive, at or below "
+            "vgs_th_max_V 2.5 V") in result.stdout
+    catalog = load_catalog(path, source="test")
+    assert "TQP-200" in set(catalog.df["part"])
+    from picker.engine.parts import PartData
+
+    fit = PartData(catalog.df[catalog.df["part"] == "TQP-200"]).fit()
+    assert fit.n_points[0] == 1 and fit.left_out[0] == 1
+    assert fit.k_ohm_V[0] == pytest.approx(0.11, rel=1e-12) and fit.r_fix_ohm[0] == 0.0
+
+
 def test_other_commands_leave_bad_rows_out_and_say_so(tmp_path):
     bad = tmp_path / "bad.csv"
     bad.write_text(TINY_CSV.replace("TQN-300,Testa Parts,nmos", "TQN-300,Testa Parts,triac"))

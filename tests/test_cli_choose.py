@@ -33,7 +33,8 @@ CANDIDATE_FIELDS = {"part": str, "maker": str, "package": str, "feasible": bool,
                     "figures": dict, "checks": dict, "notes": list}
 PASS_FIGURES = ("vgs_V", "rds_on_ohm", "drop_V", "loss_W", "tj_C", "off_current_A", "corner")
 SWITCH_FIGURES = ("ib_A", "hfe", "vce_sat_V", "off_current_A")
-PASS_CHECKS = ("gate_drive", "drop", "tj", "off_current", "vds_rating", "vgs_rating", "id_rating")
+PASS_CHECKS = ("gate_drive", "ohmic", "drop", "tj", "off_current", "vds_rating", "vgs_rating",
+               "id_rating")
 SWITCH_CHECKS = ("saturation", "vce_sat", "off_current", "vceo_rating", "ic_rating")
 HOURS_PER_YEAR = 8766  # 365.25 days
 

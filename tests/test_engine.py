@@ -130,9 +130,14 @@ def test_two_point_fit_at_a_drive_between_the_points(tmp_path):
       K = (60 - 40) / (0.666667 - 0.285714) = 20 / 0.380952 = 52.5 mΩ·V
       R_fix = 40 - 52.5·0.285714 = 40 - 15 = 25 mΩ     (check: 25 + 52.5/1.5 = 60)
     Role: gate drive 3.1 V less 0.1 V: vgs = 3.0 V, overdrive 2.0 V:
-      R = 25 + 52.5/2.0 = 51.25 mΩ = 0.05125 Ω (the engine works in Ω: mΩ/1000)
-      drop = 1 A · 0.05125 Ω = 51.25 mV;  loss = 1² · 0.05125 = 51.25 mW.
-    At vgs = 4.5 V the fit returns the datasheet point, 40 mΩ.
+      small-signal R = 25 + 52.5/2.0 = 51.25 mΩ; at the 1 A load the channel
+      follows the whole triode law (Sedra & Smith, Id = k (Vov Vds - Vds²/2),
+      models/README.md §1): V_ch = 2.0 - sqrt(4 - 2·0.0525·1) = 2.0 - sqrt(3.895)
+      = 2.0 - 1.9735754 = 26.4246 mV, so
+      drop = 1 A · 25 mΩ + 26.4246 mV = 51.4246 mV; Rds(on) = drop/I = 51.4246 mΩ;
+      loss = 1 A · 51.4246 mV = 51.4246 mW.
+    At vgs = 4.5 V: V_ch = 3.5 - sqrt(12.25 - 0.105) = 15.0323 mV, drop 40.0323 mV
+    (the small-signal curve gives the datasheet point, 40 mΩ).
     """
     df = write_catalog(tmp_path, [part(GOOD_PMOS, rth_ja_C_per_W=None,
                                        **{"vgs_th_tc_mV/C": 0, "rds_tc_pct/C": 0})])
@@ -141,11 +146,11 @@ def test_two_point_fit_at_a_drive_between_the_points(tmp_path):
                                  extra='gate_drive = "4.6 V"\ngate_drive_drop = "0.1 V"'))
     r = row_of(run_role(df, req, 0), "TPX-1")
     assert r["vgs_V"] == pytest.approx(3.0, rel=1e-12)
-    assert r["rds_on_ohm"] == pytest.approx(0.05125, rel=REL)
-    assert r["drop_V"] == pytest.approx(0.05125, rel=REL)
-    assert r["loss_W"] == pytest.approx(0.05125, rel=REL)
+    assert r["rds_on_ohm"] == pytest.approx(0.0514246, rel=REL)
+    assert r["drop_V"] == pytest.approx(0.0514246, rel=REL)
+    assert r["loss_W"] == pytest.approx(0.0514246, rel=REL)
     assert not r["extrapolated"]  # 3.0 V lies between the 2.5 V and 4.5 V points
-    assert row_of(run_role(df, req, 1), "TPX-1")["rds_on_ohm"] == pytest.approx(0.040, rel=REL)
+    assert row_of(run_role(df, req, 1), "TPX-1")["rds_on_ohm"] == pytest.approx(0.0400323, rel=REL)
 
 
 def test_both_corners_with_the_default_coefficients_hot_worse(tmp_path):
@@ -153,53 +158,63 @@ def test_both_corners_with_the_default_coefficients_hot_worse(tmp_path):
     (models/README.md §2, from memory: Vt falls 3 mV/°C, R rises 0.5 %/°C), no rth so
     Tj = Ta; cell at its minimum 3.0 V, gate driver loses 0.1 V: vgs = 2.9 V.
 
-      cold, Ta = -20 °C: Vt = 1.0 + 0.003·45 = 1.135 V; overdrive 1.765 V
-        R = (25 + 52.5/1.765) mΩ · (1 - 0.005·45) = (25 + 29.745)·0.775 = 42.427 mΩ
-      hot, Ta = 45 °C: Vt = 1.0 - 0.003·20 = 0.94 V; overdrive 1.96 V
-        R = (25 + 52.5/1.96)·(1 + 0.005·20) = (25 + 26.786)·1.1 = 56.964 mΩ
-    The hot corner is worse: drop 56.964 mV at 1 A, corner "hot"; the cold
-    corner's drop 42.427 mV is kept beside it.
+      cold, Ta = -20 °C: Vt = 1.0 + 0.003·45 = 1.135 V; overdrive 1.765 V;
+        m = 1 - 0.005·45 = 0.775, K' = 52.5·0.775 = 40.6875 mΩ·V, R_s = 19.375 mΩ
+        V_ch = 1.765 - sqrt(1.765² - 2·0.0406875·1) = 1.765 - sqrt(3.03385) = 23.2049 mV
+        drop = 19.375 + 23.2049 = 42.5799 mV (small-signal: 42.427 mV)
+      hot, Ta = 45 °C: Vt = 1.0 - 0.003·20 = 0.94 V; overdrive 1.96 V; m = 1.1,
+        K' = 57.75 mΩ·V, R_s = 27.5 mΩ; V_ch = 1.96 - sqrt(3.7261) = 29.6891 mV
+        drop = 27.5 + 29.6891 = 57.1891 mV
+    The hot corner is worse: drop 57.189 mV at 1 A, corner "hot"; the cold
+    corner's drop 42.580 mV is kept beside it. (A 1.0 V threshold gets the
+    3 mV/°C floor of the default coefficient: 0.3 % of 1.0 V is 3 mV/°C.)
     """
     df = write_catalog(tmp_path, [part(GOOD_PMOS, rth_ja_C_per_W=None)])
     r = row_of(run_role(df, requirements(pass_role())), "TPX-1")
     assert r["vgs_V"] == pytest.approx(2.9, rel=1e-12)
     assert r["vt_cold_V"] == pytest.approx(1.135, rel=1e-9)
-    assert r["drop_cold_V"] == pytest.approx(0.042427, rel=REL)
-    assert r["drop_hot_V"] == pytest.approx(0.056964, rel=REL)
-    assert r["drop_V"] == pytest.approx(0.056964, rel=REL)
+    assert r["drop_cold_V"] == pytest.approx(0.0425799, rel=REL)
+    assert r["drop_hot_V"] == pytest.approx(0.0571891, rel=REL)
+    assert r["drop_V"] == pytest.approx(0.0571891, rel=REL)
     assert r["corner"] == "hot"
 
 
 def test_both_corners_cold_worse_when_the_overdrive_is_thin(tmp_path):
     """A one-point part near its threshold: the cold corner is worse.
 
-    One point (models/README.md §1): R_fix = 0, K = R1 (V1 - Vt) = 0.100 Ω · (4.5 - 2.5) V = 0.2 Ω·V.
-    vgs = 3.0 - 0.1 = 2.9 V; load 0.1 A.
-      cold -20 °C: Vt = 2.5 + 0.135 = 2.635 V, overdrive 0.265 V,
-        R = 0.2/0.265 · 0.775 = 0.75472 · 0.775 = 0.58491 Ω, drop 58.491 mV
-      hot 45 °C:   Vt = 2.5 - 0.06 = 2.44 V, overdrive 0.46 V,
-        R = 0.2/0.46 · 1.1 = 0.43478 · 1.1 = 0.47826 Ω, drop 47.826 mV
+    One point, 500 mΩ at 2.9 V (models/README.md §1): R_fix = 0,
+    K = R1 (V1 - Vt) = 0.5 Ω · (2.9 - 2.5) V = 0.2 Ω·V; its own coefficient
+    3 mV/°C (the column; the default for a 2.5 V part would be 7.5 mV/°C).
+    vgs = 3.0 - 0.1 = 2.9 V, the rated drive itself; load 0.1 A. Whole triode
+    law (Sedra & Smith): V = Vov - sqrt(Vov² - 2 K' I), K' = K m.
+      cold -20 °C: Vt = 2.5 + 0.135 = 2.635 V, overdrive 0.265 V, K' = 0.155 Ω·V,
+        drop = 0.265 - sqrt(0.070225 - 0.031) = 0.265 - 0.198053 = 66.947 mV
+        (small-signal 0.155/0.265·0.1 = 58.491 mV: the Vds²/2 term adds 14 %)
+      hot 45 °C:   Vt = 2.5 - 0.06 = 2.44 V, overdrive 0.46 V, K' = 0.22 Ω·V,
+        drop = 0.46 - sqrt(0.2116 - 0.044) = 0.46 - 0.409390 = 50.610 mV
     The threshold's rise in the cold outweighs the lower multiplier: corner
-    "cold". The gate check passes: 2.9 >= 2.635 + 0.1 = 2.735 V. vgs 2.9 V is
-    below the only point (4.5 V): note `extrapolated`.
+    "cold". The gate check passes: 2.9 >= 2.635 + 0.1 = 2.735 V. vgs is the
+    rated drive: not `extrapolated`.
     """
     df = write_catalog(tmp_path, [part(GOOD_PMOS, rth_ja_C_per_W=None, vgs_th_max_V=2.5,
-                                       **{"rds_on_mohm@4.5V": 100, "rds_on_mohm@2.5V": None})])
+                                       **{"rds_on_mohm@4.5V": None, "rds_on_mohm@2.5V": None,
+                                          "rds_on_mohm@2.9V": 500, "vgs_th_tc_mV/C": 3})])
     r = row_of(run_role(df, requirements(pass_role(load="0.1 A"))), "TPX-1")
     assert r["check_gate_drive"] == PASS
-    assert r["drop_cold_V"] == pytest.approx(0.058491, rel=REL)
-    assert r["drop_hot_V"] == pytest.approx(0.047826, rel=REL)
-    assert r["drop_V"] == pytest.approx(0.058491, rel=REL)
+    assert r["drop_cold_V"] == pytest.approx(0.0669470, rel=REL)
+    assert r["drop_hot_V"] == pytest.approx(0.0506102, rel=REL)
+    assert r["drop_V"] == pytest.approx(0.0669470, rel=REL)
     assert r["corner"] == "cold"
-    assert r["extrapolated"]
+    assert not r["extrapolated"]
 
 
 # -- worked example: self-heating ----------------------------------------------------
 
 def _heating_part():
-    # one point, 50 mΩ at 4.5 V: R_fix = 0, K = 0.05·3.5; at vgs 4.5 V, R25 = 50 mΩ exactly
+    # 50 mΩ at both 4.5 V and 2.5 V: the fit gives K = 0, R_fix = 50 mΩ (all of
+    # it fixed, models/README.md §1), so the drop is I·R_fix·m(T), linear in T
     return part(GOOD_PMOS, id_max_A=5, rth_ja_C_per_W=250,
-                **{"rds_on_mohm@4.5V": 50, "rds_on_mohm@2.5V": None, "vgs_th_tc_mV/C": 0})
+                **{"rds_on_mohm@4.5V": 50, "rds_on_mohm@2.5V": 50, "vgs_th_tc_mV/C": 0})
 
 
 def _heating_role(extra=""):
@@ -215,24 +230,23 @@ def test_self_heating_fixed_point_against_the_closed_form(tmp_path):
          = Ta + I² θ R25 (1 + a Tj - 25 a)
       Tj (1 - I² θ R25 a) = Ta + I² θ R25 (1 - 25 a)
       Tj = (Ta + I² θ R25 (1 - 25a)) / (1 - I² θ R25 a),   while I² θ R25 a < 1.
-    Numbers: I = 2 A, θ = 250 °C/W, R25 = 0.050 Ω (vgs = 4.6 - 0.1 = 4.5 V, the
-    datasheet point), a = 0.005 /°C (default, from memory):
+    Numbers: I = 2 A, θ = 250 °C/W, R25 = 0.050 Ω (flat over drive: no channel
+    term, so the whole triode law adds nothing), a = 0.005 /°C (default, from memory):
       I² θ R25 = 4 · 250 · 0.05 = 50 °C;  I² θ R25 a = 0.25;  1 - 25a = 0.875
       hot  Ta = 45 °C:  Tj = (45 + 50·0.875)/0.75 = 88.75/0.75 = 118.333 °C
       cold Ta = -20 °C: Tj = (-20 + 43.75)/0.75 = 23.75/0.75 = 31.667 °C
       R(118.333) = 0.05 · (1 + 0.005·93.333) = 0.05 · 1.46667 = 0.073333 Ω
       drop = 2 · 0.073333 = 0.146667 V; loss = 4 · 0.073333 = 0.293333 W
       (and 45 + 0.293333·250 = 118.333: the energy balance closes).
-    Tolerance on Tj: the iteration stops when a step is below 0.01 °C; with a
-    contraction factor q = I²θR25a = 0.25 the distance left to the fixed point
-    is at most 0.01·q/(1 - q) = 0.0033 °C, so 0.005 °C; R and the drop carry
-    0.005·0.005/1.4667 = 2e-5 relative, inside REL.
+    Tolerance on Tj: the solve finds the root to 0.01 °C (models/README.md §3;
+    here f is linear, so one Newton step lands on it); R and the drop then
+    carry at most 0.01·0.005/1.4667 = 3e-5 relative, inside REL.
     Tj limit = min(role max_tj 120, tj_max 150 - margin 25 = 125) = 120 °C: pass.
     """
     df = write_catalog(tmp_path, [_heating_part()])
     req = requirements(_heating_role('max_tj = "120 degC"'))
     r = row_of(run_role(df, req), "TPX-1")
-    assert r["tj_C"] == pytest.approx(118.333333, abs=0.005)
+    assert r["tj_C"] == pytest.approx(118.333333, abs=0.01)
     assert r["rds_on_ohm"] == pytest.approx(0.0733333, rel=REL)
     assert r["drop_V"] == pytest.approx(0.146667, rel=REL)
     assert r["loss_W"] == pytest.approx(0.293333, rel=REL)
@@ -274,17 +288,21 @@ def test_thermal_runaway_fails_tj_even_without_a_limit(tmp_path):
     """Regression: runaway was `unknown` when neither Tj limit was known; models/README.md
     §3 says no convergence fails the check.
 
-    1 A through R25 = 1 Ω (one point, 1000 mΩ at 4.5 V, driven at 4.5 V), θ = 500 °C/W,
-    k_vt = 0: I²θR25a = 1·500·1·0.005 = 2.5 > 1, so no fixed point (closed form's
-    denominator 1 - 2.5 < 0): Tj climbs until the solver gives up.
+    1 A through R25 = 1 Ω (1000 mΩ at 4.5 V and at 2.5 V: all fixed), θ = 500 °C/W,
+    k_vt = 0: I²θR25a = 1·500·1·0.005 = 2.5 > 1, so no fixed point below 1000 °C
+    (the closed form's denominator 1 - 2.5 < 0): thermal runaway. §3 and §5:
+    the on-state figures are null, `tj` fails, `drop` fails, `ohmic` passes.
     """
     runaway = part(_heating_part(), tj_max_C=None, rth_ja_C_per_W=500,
-                   **{"rds_on_mohm@4.5V": 1000})
+                   **{"rds_on_mohm@4.5V": 1000, "rds_on_mohm@2.5V": 1000})
     df = write_catalog(tmp_path, [runaway])
     r = row_of(run_role(df, requirements(_heating_role().replace("2 A", "1 A")
                                          .replace("200 mV", "5 V"))), "TPX-1")
-    assert not r["settled"]
-    assert r["check_tj"] == FAIL
+    assert r["runaway"] and not r["runaway_saturates"]
+    assert r["check_tj"] == FAIL and r["check_drop"] == FAIL and r["check_ohmic"] == PASS
+    for figure in ("drop_V", "rds_on_ohm", "loss_W", "tj_C"):
+        assert np.isnan(r[figure]), figure
+    assert pd.isna(r["corner"]) and r["vgs_V"] == pytest.approx(4.5)
     req = requirements(_heating_role('max_tj = "120 degC"').replace("2 A", "1 A"))
     assert row_of(run_role(df, req), "TPX-1")["check_tj"] == FAIL
 
@@ -538,7 +556,7 @@ def test_units_reach_the_engine_in_si(tmp_path):
     req = requirements(pass_role(extra='gate_drive = "3.1 V"'),
                        switch_role(extra='base_drive = "1.8 V"'))
     r = row_of(run_role(df, req, 0), "TPX-1")
-    assert r["rds_on_ohm"] == pytest.approx(0.05125, rel=REL)   # worked above
+    assert r["rds_on_ohm"] == pytest.approx(0.0514246, rel=REL)   # worked above
     assert r["off_current_A"] == pytest.approx(4e-6, rel=1e-12)
     s = row_of(run_role(df, req, 1), "TBX-1")
     assert s["off_current_A"] == pytest.approx(4e-8, rel=1e-12)
@@ -558,22 +576,25 @@ def test_lithium_ion_cell_span_is_the_quick_default():
 def test_threshold_near_the_cell_minimum_fails_gate_drive_in_the_cold(tmp_path):
     """A part whose Vgs(th) max (2.75 V) is near the empty cell (3.0 V) fails
     `gate_drive` at the cold corner (common practice: the threshold rises in the
-    cold, here 3 mV/°C from memory).
+    cold; the default coefficient for 2.75 V is 0.3 % of it per °C, 8.25 mV/°C,
+    from memory, models/README.md §2).
 
       vgs = 3.0 - 0.1 = 2.9 V
-      at -20 °C: Vt = 2.75 + 0.003·45 = 2.885 V; needs 2.985 V > 2.9: fail
+      at -20 °C: Vt = 2.75 + 0.00825·45 = 3.12125 V; needs 3.22125 V > 2.9: fail
       with the cold ambient at 25 °C: needs 2.75 + 0.1 = 2.85 <= 2.9: pass
     So it is the cold corner that fails it. Where the gate fails, the on-state
-    figures are null (models/README.md §6) and drop and tj are unknown.
+    figures are null, `drop` fails and `ohmic` and `tj` are unknown
+    (models/README.md §5).
     """
     near = part(GOOD_PMOS, vgs_th_max_V=2.75, **{"rds_on_mohm@4.5V": 40, "rds_on_mohm@2.5V": None})
     df = write_catalog(tmp_path, [near])
     res = run_role(df, requirements(pass_role(max_drop="1 V")))
     r = row_of(res, "TPX-1")
-    assert r["vt_cold_V"] == pytest.approx(2.885)
+    assert r["vt_cold_V"] == pytest.approx(3.12125)
     assert r["check_gate_drive"] == FAIL
     assert np.isnan(r["drop_V"]) and np.isnan(r["rds_on_ohm"]) and np.isnan(r["tj_C"])
-    assert r["check_drop"] == UNKNOWN and r["check_tj"] == UNKNOWN
+    assert r["check_drop"] == FAIL
+    assert r["check_tj"] == UNKNOWN and r["check_ohmic"] == UNKNOWN
     assert not r["feasible"]
     warm = requirements(pass_role(max_drop="1 V"), ambient=("25 degC", "45 degC"))
     assert check(run_role(df, warm), "TPX-1", "gate_drive") == "pass"
@@ -582,7 +603,7 @@ def test_threshold_near_the_cell_minimum_fails_gate_drive_in_the_cold(tmp_path):
 def test_demo_logic_level_parts_fail_on_an_empty_cell():
     """On the demo catalogue (invented parts), the 2.5 V-threshold P-channel
     parts fail `gate_drive` for the lantern's cell switch (gate 3.0 - 0.3 = 2.7 V,
-    needs 2.5 + 0.135 + 0.1 = 2.735 V at -20 °C) - the same arithmetic."""
+    needs 2.5 + 0.0075·45 + 0.1 = 2.9375 V at -20 °C) - the same arithmetic."""
     from conftest import DEMO
 
     df = load_catalog(DEMO, source="test").df
@@ -756,8 +777,8 @@ def test_catalogue_without_a_point_family_does_not_crash(tmp_path, rows):
 
 
 def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_path, monkeypatch):
-    """Regression for a speed-up: during the self-heating iteration the solver
-    recomputes R only for the parts still moving. The table must be identical
+    """Regression for a speed-up: during the self-heating solve the solver
+    recomputes the power only for the parts still being solved. The table must be identical
     (every value, dtype and the order) to recomputing every part at every
     step. Demo catalogue plus parts that never settle (runaway), lose R
     (no on-resistance point) or have no rth."""
@@ -767,10 +788,11 @@ def test_thermal_shortcut_gives_the_same_table_as_recomputing_every_part(tmp_pat
 
     solve = thermal.solve_junction_temperature
 
-    def full_recompute(ta_C, current_A, rth, resistance_at, **kw):
-        return solve(ta_C, current_A, rth, lambda t_C: resistance_at(t_C), **kw)
+    def full_recompute(ta_C, rth, power_at, *args, **kw):
+        return solve(ta_C, rth, lambda t_C: power_at(t_C), *args, **kw)
 
-    extra = [part(_heating_part(), part="RUNAWAY", rth_ja_C_per_W=500, **{"rds_on_mohm@4.5V": 1000}),
+    extra = [part(_heating_part(), part="RUNAWAY", rth_ja_C_per_W=500,
+                  **{"rds_on_mohm@4.5V": 1000, "rds_on_mohm@2.5V": 1000}),
              part(GOOD_PMOS, part="NO-POINT", **{"rds_on_mohm@4.5V": None, "rds_on_mohm@2.5V": None}),
              part(GOOD_PMOS, part="NO-RTH", rth_ja_C_per_W=None)]
     demo = load_catalog(DEMO, source="test").df

@@ -5,6 +5,9 @@ Sources, named again beside each check:
 - on-resistance R = R_fix + K / (Vg - Vt): the long-channel triode region of
   the square-law MOSFET (Sedra & Smith, *Microelectronic Circuits*); two
   datasheet points fix R_fix and K exactly (models/README.md §1);
+- the drop at the load by the whole triode law, Vds = Vov - sqrt(Vov² - 2 K' I)
+  (Sedra & Smith, triode region; models/README.md §1), and below the lowest
+  rated drive the conservative extrapolation of models/README.md §1;
 - R rises 0.5 %/°C and Vt falls 3 mV/°C: from memory (models/README.md §2);
 - gate check vgs >= Vt(Ta) + 0.1 V: models/README.md §6 (common practice);
 - Ib = (drive - Vbe) / Rb (Ohm's law) and Vbe falling about 2 mV/°C
@@ -75,11 +78,11 @@ def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path, m
                                                                      trial_rows):
     """Both search forms: 32 sections a pass, and plain bisection (what very
     many parts get, here forced by allowing 1 trial row). k_vt = 0 (vgs_th_tc_mV/C = 0) and no rth_ja (Tj = Ta), so at the boundary
-    the drop equals max_drop exactly and
-
-        I * m * (R_fix + K / (V - gdd - Vt)) = max_drop
-        V = Vt + K / (max_drop / I / m - R_fix) + gate_drive_drop,
-        m = 1 + 0.005 (Ta - 25)                       (models/README.md §2, from memory)
+    the drop equals max_drop D exactly. With the whole triode law the
+    channel's share c = D - I R_s satisfies c = Vov - sqrt(Vov² - 2 K' I), so
+        Vov = c/2 + K' I / c,      V = Vt + Vov + gate_drive_drop,
+        K' = K m, R_s = R_fix m, m = 1 + 0.005 (Ta - 25)   (models/README.md §2, from memory)
+    (without the Vds²/2 term it would be Vov = K' I / c).
 
     Part: Vt = 1.0 V, 40 mΩ at 4.5 V, 60 mΩ at 2.5 V. Two points fix the line
     R = R_fix + K x, x = 1/(Vg - Vt) (Sedra & Smith triode region; models/README.md §1):
@@ -87,10 +90,14 @@ def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path, m
         K = (60 - 40) / (0.666667 - 0.285714) = 52.5 mΩ·V
         R_fix = 40 - 52.5/3.5 = 25 mΩ
     I = 1 A, max_drop = 60 mV, gate_drive_drop = 0.1 V:
-        hot 45 °C:   m = 1.1,   V = 1.0 + 52.5·1.1/(60 - 27.5) + 0.1
-                                  = 1.0 + 57.75/32.5 + 0.1 = 2.876923 V
-        cold -20 °C: m = 0.775, V = 1.0 + 52.5·0.775/(60 - 19.375) + 0.1
-                                  = 1.0 + 40.6875/40.625 + 0.1 = 2.101538 V
+        hot 45 °C:   m = 1.1, c = 60 - 27.5 = 32.5 mV, K' = 57.75 mΩ·V
+                     Vov = 0.01625 + 0.05775/0.0325 = 1.793173 V, V = 2.893173 V
+                     (vgs 2.793 V: inside the rated 2.5-4.5 V)
+        cold -20 °C: vgs would be below the lowest rated 2.5 V, so the
+                     conservative rule: all channel, N = 25·1.5 + 52.5 = 90 mΩ·V,
+                     K' = 90·0.775 = 69.75 mΩ·V, R_s = 0, c = 60 mV
+                     Vov = 0.03 + 0.06975/0.06 = 1.1925 V, V = 2.2925 V
+                     (vgs 2.1925 V, above the depth limit (2.5 + 1.0)/2 = 1.75 V)
     The gate check (vgs >= Vt + 0.1 V = 1.1 V) holds at both, so the drop binds;
     the worse corner is the hot one.
     """
@@ -100,8 +107,8 @@ def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path, m
     calls = []
     low = headroom.lowest_supply(df, req.roles[0], req, on_step=lambda: calls.append(1)).iloc[0]
     assert len(calls) == 1 + (4 if trial_rows > 1 else 20)  # log2(8.4 V / 10 µV) = 19.7
-    hot = 1.0 + 57.75 / 32.5 + 0.1
-    cold = 1.0 + 40.6875 / 40.625 + 0.1
+    hot = 1.0 + 0.0325 / 2 + 0.05775 / 0.0325 + 0.1
+    cold = 1.0 + 0.06 / 2 + 0.06975 / 0.06 + 0.1
     assert 0 <= low["lowest_supply_hot_V"] - hot <= BISECT
     assert 0 <= low["lowest_supply_cold_V"] - cold <= BISECT
     assert low["lowest_supply_V"] == low["lowest_supply_hot_V"]
@@ -110,7 +117,7 @@ def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path, m
     # The same figure against the engine's own checks 1 mV either side.
     assert _works(df, req, hot + STEP_V) and not _works(df, req, hot - STEP_V)
     assert headroom.describe(low, req.roles[0], req) == \
-        "meets 60 mV down to 2.877 V at 45 °C; below it the drop is over the limit"
+        "meets 60 mV down to 2.894 V at 45 °C; below it the drop is over the limit"
 
 
 @pytest.mark.parametrize("tc, cold, hot", [
@@ -122,10 +129,16 @@ def test_closed_form_drop_limited_no_self_heating_no_threshold_drift(tmp_path, m
 ])
 def test_closed_form_gate_limited(tmp_path, tc, cold, hot):
     """With a loose drop limit (1 V) the gate check binds (models/README.md §6):
-    vgs = V - gdd >= Vt(Ta) + 0.1 V, so V = Vt(Ta) + 0.1 V + gdd. At that
-    drive R = (25 + 52.5/0.1) mΩ · m = 550 mΩ · m, a drop of at most
-    0.55 V · 1.1 = 0.605 V < 1 V: the drop does not bind."""
-    df = catalog(tmp_path, f"HRP-1,Testa,pmos,SOT-23,20,8,3,1.0,{tc},40,60,1,,150,0.1\n")
+    vgs = V - gdd >= Vt(Ta) + 0.1 V, so V = Vt(Ta) + 0.1 V + gdd. The part is
+    rated down to 1.1 V (15 mΩ at 1.1 V, 5.4 mΩ at 3.5 V: K = 9.6/9.6 =
+    1 mΩ·V, R_fix = 5 mΩ), so the depth limit (1.1 + Vt(Ta))/2 (1.05, 1.1175,
+    1.02 V) stays below the gate's need (1.1, 1.235, 1.04 V). At the hot
+    gate limit vgs = 1.04 V is below 1.1 V: all channel, N = 5·0.16 + 1 =
+    1.8 mΩ·V, K' = 1.98 mΩ·V; with Vov = 0.1 V the drop is 0.1 - sqrt(0.01 -
+    0.00396) = 22.3 mV < 1 V and 2 K' I = 0.004 < Vov² = 0.01 (ohmic): the
+    drop does not bind."""
+    header = HEADER.replace("rds_on_mohm@4.5V,rds_on_mohm@2.5V", "rds_on_mohm@3.5V,rds_on_mohm@1.1V")
+    df = catalog(tmp_path, f"HRP-1,Testa,pmos,SOT-23,20,8,3,1.0,{tc},5.4,15,1,,150,0.1\n", header)
     req = pass_role(drop="1 V")
     low = headroom.lowest_supply(df, req.roles[0], req).iloc[0]
     assert 0 <= low["lowest_supply_cold_V"] - cold <= BISECT
@@ -171,11 +184,14 @@ def test_closed_form_bipolar_saturation(tmp_path, tiny_catalog, pulldown):
 def test_fixed_gate_drive_does_not_depend_on_the_supply(tmp_path):
     """gate_drive = 1.8 V (a microcontroller pin), gdd 0: vgs = 1.8 V whatever
     the cell does, so the part works at every supply or at none.
-    R(1.8 V) = 25 + 52.5/0.8 = 90.625 mΩ at 25 °C; hot x1.1 = 99.69 mΩ.
-    - 60 mV limit at 1 A: drop 99.7 mV: never (limit drop).
-    - 120 mV: 99.7 mV passes, and cold (x0.775, 70.2 mV) too: any."""
+    1.8 V is below the lowest rated 2.5 V: conservative (models/README.md §1),
+    N = 25·1.5 + 52.5 = 90 mΩ·V; at 1 A with Vov = 0.8 V (k_vt = 0):
+    hot K' = 99 mΩ·V, drop = 0.8 - sqrt(0.64 - 0.198) = 135.2 mV;
+    cold K' = 69.75 mΩ·V, drop = 0.8 - sqrt(0.64 - 0.1395) = 92.5 mV.
+    - 60 mV limit at 1 A: never (limit drop).
+    - 150 mV: both pass: any."""
     df = catalog(tmp_path, "HRP-1,Testa,pmos,SOT-23,20,8,3,1.0,0,40,60,1,,150,0.1\n")
-    for drop, status, limit in (("60 mV", "never", "drop"), ("120 mV", "any", "")):
+    for drop, status, limit in (("60 mV", "never", "drop"), ("150 mV", "any", "")):
         req = pass_role(drop=drop, drive="1.8 V", gdd="0 V")
         low = headroom.lowest_supply(df, req.roles[0], req).iloc[0]
         assert (low["lowest_supply_status"], low["lowest_supply_limit"]) == (status, limit)

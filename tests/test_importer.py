@@ -459,15 +459,14 @@ def test_a_cell_that_does_not_parse_is_reported_not_guessed(demo, tmp_path):
 
 
 def test_an_import_that_would_fail_the_catalogue_check_is_refused(demo, tmp_path):
-    """On-resistance at 1.8 V drive for a part whose threshold max is 2.3 V:
-    the loader's rule; the merged rows are checked before anything is written."""
+    """A threshold minimum (2.6 V) above its maximum (2.3 V): the loader's rule;
+    the merged rows are checked before anything is written."""
     raw = tmp_path / "raw.csv"
-    raw.write_text("Part,Type,VGS(th) min and max,Rds(on) @ 1.8V [mΩ]\nZZ-9,nmos,1.2 ~ 2.3,50\n",
-                   encoding="utf-8")
+    raw.write_text("Part,Type,Vgs(th) min,Vgs(th) max\nZZ-9,nmos,2.6,2.3\n", encoding="utf-8")
     digest = sha(demo)
     result = invoke("catalog", "import", str(raw), "--into", str(demo))
     assert result.exit_code == 2
-    assert error_line(result).startswith(f"Error: {raw}:2:4: the catalogue check would fail")
+    assert error_line(result).startswith(f"Error: {raw}:2:3: the catalogue check would fail")
     assert sha(demo) == digest
 
 

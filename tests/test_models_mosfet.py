@@ -1,10 +1,14 @@
-"""On-resistance fit and temperature model (models/README.md §1-§2), checked like a datasheet.
+"""On-resistance fit, extrapolation, the whole triode law and temperature
+(picker/models/README.md §1-§2), checked like a datasheet.
 
-Sources: the triode-region channel resistance 1 / (k (Vgs - Vt)) (Sedra & Smith,
-MOSFET triode region); least squares against numpy.linalg.lstsq; a level-1
-MOSFET simulated by ngspice; the temperature coefficients are from memory.
+Sources: the triode-region channel 1 / (k (Vgs - Vt)) and the whole law
+Id = k ((Vgs - Vt) Vds - Vds^2 / 2) (Sedra & Smith, MOSFET triode region),
+worked by hand in each docstring; least squares against numpy.linalg.lstsq; a
+level-1 MOSFET simulated by ngspice; the temperature coefficients are from
+memory (picker/models/README.md §2).
 """
 
+import math
 import shutil
 import subprocess
 
@@ -14,11 +18,12 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from picker.models.mosfet import (
-    K_VT_V_PER_C,
-    RDS_TC_PER_C,
-    extrapolated,
+    channel_at_drive,
+    default_k_vt,
     fit_on_resistance,
+    k_vt_of,
     on_resistance,
+    small_signal,
     threshold_at,
 )
 
@@ -66,8 +71,14 @@ def test_three_point_least_squares_matches_numpy_lstsq():
         design = np.column_stack([np.ones_like(x), x])
         (r_fix, k), *_ = np.linalg.lstsq(design, rds_ohm[row, used], rcond=None)
         assert r_fix > 0 and k > 0
-        assert fit.r_fix_ohm[row] == pytest.approx(r_fix, rel=LSTSQ_REL_TOL)
+        # then lifted onto the highest point above the line (§1)
+        lift = max(0.0, float(np.max(rds_ohm[row, used] - (r_fix + k * x))))
+        assert lift > 0  # three or four scattered points: a least-squares line misses some
+        assert fit.r_fix_ohm[row] == pytest.approx(r_fix + lift, rel=LSTSQ_REL_TOL)
         assert fit.k_ohm_V[row] == pytest.approx(k, rel=LSTSQ_REL_TOL)
+        curve = fit.r_fix_ohm[row] + fit.k_ohm_V[row] * x
+        assert np.all(curve >= rds_ohm[row, used] - 1e-15)
+        assert np.min(curve - rds_ohm[row, used]) == pytest.approx(0.0, abs=1e-15)
     assert list(fit.n_points) == [3, 4, 3]
     assert list(fit.lowest_drive_V) == [2.5, 1.8, 2.5]
 
@@ -79,10 +90,12 @@ def test_negative_fixed_part_is_clamped_to_zero():
     R_fix = 0.020 - 0.112·2/7 = 0.020 - 0.032 = -0.012 Ω < 0 → R_fix = 0 and
     K = Σ x R / Σ x² = (0.1 + 0.04/7) / (1 + 4/49) = (0.74/7)·(49/53) = 5.18/53
     = 0.0977358 Ω·V. Also checked against numpy.linalg.lstsq through the origin.
-    Source: models/README.md §1 (the constraint).
+    The line then gives 97.74 mΩ at 2 V, under the 100 mΩ maximum: lifted by
+    0.100 - 0.0977358 = 2.2642 mΩ (at 4.5 V it is 0.0977358·2/7 + 0.0022642
+    = 30.19 mΩ, above the 20 mΩ point). Source: models/README.md §1.
     """
     fit = fit_one([2.0, 4.5], [0.100, 0.020], 1.0)
-    assert fit.r_fix_ohm[0] == 0.0
+    assert fit.r_fix_ohm[0] == pytest.approx(0.100 - 5.18 / 53, rel=REL_TOL)
     assert fit.k_ohm_V[0] == pytest.approx(5.18 / 53, rel=REL_TOL)
     x = np.array([[1.0], [2 / 7]])
     (k_ref,), *_ = np.linalg.lstsq(x, np.array([0.100, 0.020]), rcond=None)
@@ -93,11 +106,12 @@ def test_negative_slope_is_clamped_to_zero():
     """Vt = 1.0 V; 40 mΩ at 2.5 V, 42 mΩ at 4.5 V: R rises with drive (rounded data).
 
     Free fit gives K = (0.040 - 0.042)/(1/1.5 - 1/3.5) < 0 → K = 0,
-    R_fix = mean = (0.040 + 0.042)/2 = 0.041 Ω. Source: models/README.md §1.
+    R_fix = mean = (0.040 + 0.042)/2 = 0.041 Ω, then lifted onto the 42 mΩ
+    point: 0.042 Ω, a flat line at the higher maximum. Source: models/README.md §1.
     """
     fit = fit_one([2.5, 4.5], [0.040, 0.042], 1.0)
     assert fit.k_ohm_V[0] == 0.0
-    assert fit.r_fix_ohm[0] == pytest.approx(0.041, rel=REL_TOL)
+    assert fit.r_fix_ohm[0] == pytest.approx(0.042, rel=REL_TOL)
 
 
 def test_one_point_is_all_channel():
@@ -115,14 +129,19 @@ def test_no_point_or_no_threshold_is_unknown():
     assert np.isnan(none.lowest_drive_V[0]) and none.n_points[0] == 0
     no_vt = fit_one([2.5, 4.5], [0.060, 0.040], NAN)
     assert np.isnan(no_vt.r_fix_ohm[0]) and np.isnan(no_vt.k_ohm_V[0])
-    assert no_vt.lowest_drive_V[0] == 2.5
+    assert np.isnan(no_vt.lowest_drive_V[0])  # no point is usable without a threshold
 
 
 @pytest.mark.parametrize("low_drive_V", [1.0, 0.8])
-def test_point_at_or_below_threshold_is_not_fitted(low_drive_V):
-    """A point at V <= Vt (1.0 V) is a catalogue error: no fit through it, NaN (models/README.md §1)."""
+def test_point_at_or_below_threshold_is_left_out(low_drive_V):
+    """A point at V <= Vt (1.0 V) is left out and counted; the part is fitted
+    from the rest: 40 mΩ at 4.5 V alone gives R_fix = 0, K = 0.040·3.5 =
+    0.14 Ω·V (models/README.md §1)."""
     fit = fit_one([low_drive_V, 4.5], [0.200, 0.040], 1.0)
-    assert np.isnan(fit.r_fix_ohm[0]) and np.isnan(fit.k_ohm_V[0])
+    assert fit.r_fix_ohm[0] == 0.0
+    assert fit.k_ohm_V[0] == pytest.approx(0.14, rel=REL_TOL)
+    assert fit.n_points[0] == 1 and fit.left_out[0] == 1
+    assert fit.lowest_drive_V[0] == fit.highest_drive_V[0] == 4.5
 
 
 def test_whole_catalogue_in_one_call_equals_one_at_a_time():
@@ -141,7 +160,8 @@ def test_whole_catalogue_in_one_call_equals_one_at_a_time():
         alone = fit_on_resistance(drive_V[row:row + 1], rds_ohm[row:row + 1], vt_V[row:row + 1])
         for field in ("r_fix_ohm", "k_ohm_V", "lowest_drive_V", "n_points"):
             np.testing.assert_array_equal(getattr(together, field)[row], getattr(alone, field)[0])
-    assert list(together.n_points) == [2, 1, 0, 3, 2, 2, 2]
+    assert list(together.n_points) == [2, 1, 0, 3, 2, 2, 1]
+    assert list(together.left_out) == [0, 0, 0, 0, 0, 0, 1]
 
 
 def test_column_drives_shared_by_all_parts():
@@ -157,28 +177,32 @@ def test_column_drives_shared_by_all_parts():
     assert list(shared.n_points) == [2, 1] and list(shared.lowest_drive_V) == [2.5, 2.5]
 
 
-def test_threshold_falls_3_mV_per_degree():
-    """Vt(T) = 1.0 - 0.003 (T - 25) (from memory): 0.700 V at 125 °C, 1.135 V at -20 °C.
-
-    A per-part override of 5 mV/°C gives 1.0 - 0.005·100 = 0.5 V at 125 °C; a NaN
-    override means the default.
-    """
-    assert K_VT_V_PER_C == 0.003
-    assert threshold_at(1.0, 125.0) == pytest.approx(0.700, rel=REL_TOL)
+def test_threshold_coefficient_grows_with_the_threshold():
+    """k_vt = max(3 mV/°C, 0.3 % of Vth max per °C) (picker/models/README.md §2,
+    from memory): a 1.0 V part falls 3 mV/°C (0.700 V at 125 °C, 1.135 V at
+    -20 °C); a 2.0 V part 6 mV/°C (1.400 V at 125 °C); a 0.6 V part still
+    3 mV/°C (0.300 V at 125 °C). A column of 5 mV/°C gives 0.5 V at 125 °C,
+    written as datasheets print it (-5) or as a fall (5); a blank column is
+    the default."""
+    np.testing.assert_allclose(threshold_at(np.array([1.0, 2.0, 0.6]), 125.0),
+                               [0.700, 1.400, 0.300], rtol=REL_TOL)
     assert threshold_at(1.0, -20.0) == pytest.approx(1.135, rel=REL_TOL)
-    got = threshold_at(np.array([1.0, 1.0]), 125.0, np.array([0.005, NAN]))
-    np.testing.assert_allclose(got, [0.5, 0.7], rtol=REL_TOL)
+    column = np.array([-5.0, 5.0, NAN, NAN])
+    k_vt = k_vt_of(column, np.array([1.0, 1.0, 1.0, 2.0]))
+    np.testing.assert_allclose(threshold_at(np.array([1.0, 1.0, 1.0, 2.0]), 125.0, k_vt),
+                               [0.5, 0.5, 0.7, 1.4], rtol=REL_TOL)
+    assert default_k_vt(np.nan) == pytest.approx(0.003)
 
 
 def test_resistance_multiplier_is_1_5_at_125_C():
     """(1 + 0.005·(125 - 25)) = 1.5: normalised on-resistance at 125 °C (from memory).
 
     Threshold held (k_vt = 0), R_fix = 0.025, K = 0.0525, Vg = 4.5, Vt = 1.0:
-    R25 = 0.025 + 0.0525/3.5 = 0.040 Ω → R125 = 0.060 Ω.
+    R25 = 0.025 + 0.0525/3.5 = 0.040 Ω → R125 = 0.060 Ω; at -20 °C
+    0.040·(1 - 0.225) = 0.031 Ω.
     """
-    assert RDS_TC_PER_C == 0.005
-    r_ohm = on_resistance(4.5, 125.0, 0.025, 0.0525, 1.0, k_vt_V_per_C=0.0)
-    assert r_ohm == pytest.approx(0.060, rel=REL_TOL)
+    r_ohm = on_resistance(4.5, np.array([125.0, -20.0]), 0.025, 0.0525, 1.0, k_vt_V_per_C=0.0)
+    np.testing.assert_allclose(r_ohm, [0.060, 0.031], rtol=REL_TOL)
 
 
 def test_cold_corner_by_hand():
@@ -201,10 +225,125 @@ def test_no_channel_below_threshold_and_nan_propagates():
     assert np.isnan(got).all()
 
 
-def test_extrapolated_below_lowest_drive():
-    """models/README.md §1: a drive under the lowest datasheet point is flagged; NaN is not."""
-    got = extrapolated(np.array([2.0, 2.5, 3.0, 2.0]), np.array([2.5, 2.5, 2.5, NAN]))
-    assert list(got) == [True, False, False, False]
+def _readme_part():
+    """The part of the worked examples in picker/models/README.md §1: 45 mΩ at
+    4.5 V, 60 mΩ at 2.5 V, vgs_th_max_V 1.0 V."""
+    return fit_one([2.5, 4.5], [0.060, 0.045], 1.0)
+
+
+def test_conservative_extrapolation_worked_example():
+    """picker/models/README.md §1, by hand: K = 0.015/0.380952 = 0.039375 Ω·V,
+    R_fix = 0.045 - 0.039375/3.5 = 0.03375 Ω. At 1.8 V (25 °C): the fitted
+    curve 0.03375 + 0.039375/0.8 = 82.97 mΩ; conservative N = 0.03375·1.5 +
+    0.039375 = 0.0900 Ω·V (= 60 mΩ · 1.5 V), R = 0.0900/0.8 = 112.5 mΩ; at
+    V_lo = 2.5 V both give the datasheet's 60 mΩ; with "none" there is no
+    figure at 1.8 V; below the depth limit (2.5 + 1.0)/2 = 1.75 V there is
+    none in any mode."""
+    fit = _readme_part()
+    assert fit.k_ohm_V[0] == pytest.approx(0.039375, rel=REL_TOL)
+    assert fit.r_fix_ohm[0] == pytest.approx(0.03375, rel=REL_TOL)
+    k0 = np.array([0.0])  # threshold held: the example is at 25 °C
+    at = {mode: small_signal(np.array([1.8, 2.5, 1.76, 1.74]), 25.0, fit, np.array([1.0]), k0,
+                             0.005, mode) for mode in ("conservative", "fit", "none")}
+    assert at["conservative"][0] == pytest.approx(0.1125, rel=REL_TOL)
+    assert at["fit"][0] == pytest.approx(0.03375 + 0.039375 / 0.8, rel=REL_TOL)
+    assert at["conservative"][1] == pytest.approx(0.060, rel=REL_TOL)
+    assert at["fit"][1] == pytest.approx(0.060, rel=REL_TOL)
+    assert np.isnan(at["none"][0]) and at["none"][1] == pytest.approx(0.060, rel=REL_TOL)
+    for mode in at:
+        assert np.isnan(at[mode][3])  # 1.74 V: below the depth limit
+    assert np.isfinite(at["conservative"][2])  # 1.76 V: above it
+
+
+def test_no_credit_above_the_highest_rated_drive():
+    """One point, 70 mΩ at 2.5 V, Vt 1.0 V: K = 0.105 Ω·V. The law alone
+    would give 0.105/9 = 11.7 mΩ at 10 V; §1 evaluates the part as if driven
+    at 2.5 V: 70 mΩ, and marks it (Drive.above)."""
+    fit = fit_one([2.5], [0.070], 1.0)
+    assert on_resistance(10.0, 25.0, fit.r_fix_ohm, fit.k_ohm_V, 1.0)[0] == pytest.approx(
+        0.105 / 9, rel=REL_TOL)
+    r = small_signal(np.array([10.0]), 25.0, fit, np.array([1.0]), np.array([0.0]))
+    assert r[0] == pytest.approx(0.070, rel=REL_TOL)
+    _, drive = channel_at_drive(10.0, fit, np.array([1.0]), np.array([0.003]), NAN)
+    assert drive.above[0] and not drive.below[0] and drive.vg_eff_V[0] == 2.5
+
+
+def test_whole_triode_law_against_its_small_vds_limit():
+    """picker/models/README.md §1 worked example: K' = 0.09 Ω·V (the
+    extrapolated part above at 1.8 V, 25 °C), Vov = 0.8 V, I = 1 A. The
+    small-signal drop is 0.09/0.8 = 112.5 mV; the whole law (Sedra & Smith,
+    Id = k (Vov Vds - Vds²/2) with k = 1/K') gives Vds = 0.8 - sqrt(0.64 -
+    0.18) = 121.8 mV. At 1 mA both agree to 1 part in 10^4 (the relative
+    excess is about x/2 with x = K' I / Vov² = 1.4e-4)."""
+    fit = _readme_part()
+    channel, _ = channel_at_drive(1.8, fit, np.array([1.0]), np.array([0.0]), NAN)
+    assert channel.drop(25.0, 1.0)[0] == pytest.approx(0.8 - math.sqrt(0.64 - 0.18), rel=REL_TOL)
+    assert 0.8 - math.sqrt(0.46) == pytest.approx(0.12177, abs=1e-5)
+    small = channel.drop(25.0, 1e-3)[0] / 1e-3
+    assert small == pytest.approx(0.1125, rel=1e-4)
+    assert small > 0.1125  # the whole law is never below its limit
+    # the Vds^2/2 term checked independently: k (Vov V - V^2/2) gives back 1 A
+    v = channel.drop(25.0, 1.0)[0]
+    assert (0.8 * v - v * v / 2) / 0.09 == pytest.approx(1.0, rel=1e-12)
+
+
+def test_ohmic_boundary_worked_example():
+    """picker/models/README.md §1: K' = 0.09 Ω·V, Vov = 0.8 V: the channel
+    carries at most Vov²/(2K') = 0.64/0.18 = 3.556 A; there Vds = Vov = 0.8 V,
+    twice the small-signal 0.09·3.556/0.8 = 0.4 V; at 3.6 A there is no figure."""
+    fit = _readme_part()
+    channel, _ = channel_at_drive(1.8, fit, np.array([1.0]), np.array([0.0]), NAN)
+    i_max = channel.max_current_A(25.0)[0]
+    assert i_max == pytest.approx(0.64 / 0.18, rel=REL_TOL)
+    assert channel.drop(25.0, i_max * (1 - 1e-12))[0] == pytest.approx(0.8, rel=1e-5)
+    assert np.isnan(channel.drop(25.0, 3.6)[0])
+
+
+def test_conservative_numerator_follows_the_hot_threshold():
+    """N(T) = R_fix (V_lo - Vt(T)) + K (§1): with k_vt = 3 mV/°C at 125 °C,
+    Vt = 0.7 V, N = 0.03375·1.8 + 0.039375 = 0.100125 Ω·V, m = 1.5, and at
+    1.8 V drive R = 0.100125·1.5/1.1 = 136.53 mΩ."""
+    fit = _readme_part()
+    channel, _ = channel_at_drive(1.8, fit, np.array([1.0]), np.array([0.003]), NAN)
+    assert channel.small_signal_ohm(125.0)[0] == pytest.approx(0.100125 * 1.5 / 1.1, rel=REL_TOL)
+
+
+def test_drop_slope_against_a_difference_quotient():
+    """d drop/dT (the self-heating solve's Newton step) against
+    (drop(T + h) - drop(T - h)) / 2h, h = 1e-3 °C, inside and below the rated
+    drives, at small and large overdrive."""
+    fit = fit_on_resistance(np.array([2.5, 4.5]), np.array([[0.060, 0.045], [0.060, 0.045]]),
+                            np.array([1.0, 1.0]))
+    for vg in (1.8, 3.0):
+        channel, _ = channel_at_drive(vg, fit, np.array([1.0, 1.0]), np.array([0.003, 0.006]),
+                                      np.array([0.005, 0.004]))
+        for t in (-20.0, 60.0, 140.0):
+            _, slope = channel.drop_and_slope(np.array([t, t]), 1.5)
+            h = 1e-3
+            numeric = (channel.drop(t + h, 1.5) - channel.drop(t - h, 1.5)) / (2 * h)
+            np.testing.assert_allclose(slope, numeric, rtol=1e-5)
+
+
+def test_saturation_temperature_against_a_scan():
+    """The first T >= Ta where 2 K'(T) I >= Vov(T)² (a quadratic solved in
+    closed form) against a 0.01 °C scan of the same inequality: a part that
+    saturates as it heats (R rising faster than the overdrive), one that
+    never does (the threshold falling faster), and one saturated already."""
+    fit = fit_on_resistance(np.array([2.5]), np.array([[0.200], [0.050], [0.900]]),
+                            np.array([1.0, 1.0, 1.0]))
+    channel, _ = channel_at_drive(1.8, fit, np.ones(3), np.array([0.001, 0.006, 0.003]),
+                                  np.array([0.008, 0.002, 0.005]))
+    got = channel.saturation_temperature(25.0, 1.0)
+    grid = np.arange(25.0, 400.0, 0.01)
+    for i in range(3):
+        vov, kch, _ = channel.take([i]).terms(grid)
+        sat = 2 * kch * 1.0 >= vov * vov
+        expected = grid[np.argmax(sat)] if sat.any() else np.inf
+        if np.isinf(expected):
+            assert got[i] > 400.0
+        else:
+            assert got[i] == pytest.approx(expected, abs=0.011)
+    assert got[2] == 25.0 and 25.0 < got[0] < 400.0 and got[1] > 400.0
 
 
 def test_broadcasts_over_parts_and_points():
@@ -255,6 +394,30 @@ def test_two_point_fit_passes_through_both_points(r_fix, k, vt, d1, gap):
     fit = fit_one(drives_V, rds_ohm, vt)
     back = on_resistance(np.array(drives_V), 25.0, fit.r_fix_ohm[0], fit.k_ohm_V[0], vt)
     np.testing.assert_allclose(back, rds_ohm, rtol=1e-9, atol=1e-12)
+
+
+@given(points=st.lists(st.tuples(st.floats(1.1, 12.0), st.floats(1e-3, 1.0)), min_size=1,
+                       max_size=5, unique_by=lambda p: round(p[0], 3)))
+def test_fitted_curve_is_nowhere_below_a_rated_maximum(points):
+    """Any points (Vt = 1.0 V): the lifted curve lies on or above every one
+    of them, and touches at least one (it is not lifted further than needed)."""
+    drives_V, rds_ohm = zip(*points)
+    fit = fit_one(list(drives_V), list(rds_ohm), 1.0)
+    curve = fit.r_fix_ohm[0] + fit.k_ohm_V[0] / (np.array(drives_V) - 1.0)
+    assert np.all(curve >= np.array(rds_ohm) * (1 - 1e-11))
+    assert np.min(curve - np.array(rds_ohm)) <= 1e-11 * max(rds_ohm)
+
+
+@given(k=st.floats(1e-3, 1.0), vov=st.floats(0.05, 5.0), frac=st.floats(1e-6, 0.999))
+def test_whole_law_drop_is_never_below_the_small_signal_drop(k, vov, frac):
+    """Below the ohmic boundary Vds = Vov - sqrt(Vov² - 2 K I) lies between
+    I K / Vov and twice that (at the boundary) (Sedra & Smith triode law)."""
+    fit = fit_one([1.0 + vov], [k / vov], 1.0)
+    channel, _ = channel_at_drive(1.0 + vov, fit, np.array([1.0]), np.array([0.0]), NAN)
+    current = frac * vov * vov / (2 * k)
+    small = current * k / vov
+    got = channel.drop(25.0, current)[0]
+    assert small * (1 - 1e-12) <= got <= 2 * small * (1 + 1e-12)
 
 
 @given(r_fix=st.floats(0.0, 0.5), k=st.floats(1e-4, 1.0), vt=st.floats(0.3, 3.0),

@@ -175,9 +175,9 @@ def test_terminal_chart_has_axes_limit_and_legend():
     assert result.exit_code == 0, result.output
     out = result.stdout
     for text in ("drop (mV)", "supply (V)", "limit 60 mV", "cell empty 3 V; cell full 4.2 V",
-                 "● VTQ24P15-3 cold -20 °C (2.252 V)", "○ VTQ24P15-3 hot 45 °C (2.911 V)",
-                 "gate drive |Vgs| (V)", "Rds(on) (mΩ)", "VTQ24P15-3 datasheet max at 25 °C",
-                 "VTQ24P15-3: meets 60 mV down to 2.911 V at 45 °C", "body diode"):
+                 "● AGXP219-23 cold -20 °C (2.167 V)", "○ AGXP219-23 hot 45 °C (2.612 V)",
+                 "gate drive |Vgs| (V)", "Rds(on) (mΩ)", "AGXP219-23 datasheet max at 25 °C",
+                 "AGXP219-23: meets 60 mV down to 2.612 V at 45 °C", "body diode"):
         assert text in out, text
     assert "┄" in out and "\x1b[" not in out
 
@@ -248,3 +248,23 @@ def test_nice_ticks():
     """Steps of 1, 2, 2.5 or 5 times a power of ten (common practice for axes)."""
     assert plot.nice_ticks(0, 90, 4) == [0, 25, 50, 75]
     assert plot.nice_ticks(2.3, 4.32, 6) == [2.5, 3.0, 3.5, 4.0]
+
+
+def test_curves_stop_where_the_figures_stop():
+    """The hand warmer's heater, driven at 1.8 V from a pin (invented demo):
+    QLM-2N12X runs away thermally there, so its supply curve has no point at
+    all; AGXN233-23 is rated down to 2.5 V with a 1.0 V threshold, so its fit
+    line stops below the depth limit (2.5 + 1.0)/2 = 1.75 V at 25 °C and is
+    drawn above it (picker/models/README.md §1, §3)."""
+    warmer = str(EXAMPLES / "kettlewick-warmer.toml")
+    result = invoke("curve", "-R", warmer, "-r", "heater", "QLM-2N12X", "AGXN233-23", "-f", "json")
+    assert result.exit_code == 0, result.output
+    doc = json.loads(result.stdout)
+    supply, fit = doc["charts"]
+    runaway = [s for s in supply["series"] if s["part"] == "QLM-2N12X"]
+    assert runaway and all(y is None for s in runaway for y in s["y"])
+    line = next(s for s in fit["series"] if s["part"] == "AGXN233-23" and s["style"] == "fit")
+    below = [y for x, y in zip(line["x"], line["y"]) if x < 1.75]
+    above = [y for x, y in zip(line["x"], line["y"]) if x > 1.76]
+    assert below and all(y is None for y in below)
+    assert above and all(y is not None for y in above)

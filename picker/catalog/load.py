@@ -379,8 +379,10 @@ def _row_rules(df: pd.DataFrame, col_of: dict, error, warning) -> None:
     mosfet = df["kind"].isin(cols.MOSFET_KINDS).to_numpy()
     for drive, name in rds:
         for pos in np.flatnonzero(np.isfinite(arr(name)) & (drive <= th_max)):
-            error(int(pos), col_of[name], f"on-resistance given at {drive:g} V gate drive, at or "
-                  f"below vgs_th_max_V {th_max[pos]:g} V; the part is not on there", name)
+            warning(int(pos), col_of[name], f"on-resistance given at {drive:g} V gate drive, at or "
+                    f"below vgs_th_max_V {th_max[pos]:g} V: the part is not surely on there, so "
+                    "this point is left out and the part is evaluated from its other points "
+                    "(picker/models/README.md §1)", name)
     _falling(df, rds, col_of, warning, "on-resistance", "does not fall as gate drive rises",
              rising_is_bad=True)
     prices = cols.point_columns(df.columns, "price")

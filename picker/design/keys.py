@@ -15,7 +15,7 @@ QUICK_SUPPLY_V, QUICK_AMBIENT_C, QUICK_VOLUME, QUICK_REFS = (3.0, 4.2), (-20.0, 
 
 TOP_KEYS = ("supply", "ambient", "build", "margins", "resistors", "role")
 TABLE_KEYS = {"supply": ("min", "max", "capacity"), "ambient": ("min", "max"),
-              "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin"),
+              "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin", "extrapolation", "rth_factor"),
               "resistors": ("series", "tolerance", "max")}
 # [resistors] (models/README.md §6): IEC 60063's series, and the tolerance each
 # implies when the file gives none (common practice); the largest "auto" value.
@@ -64,6 +64,11 @@ QUANTITIES = {
     "derate_v": ("derate_v", "1", "fraction", "0.8"),
     "derate_i": ("derate_i", "1", "fraction", "0.5"),
     "tj_margin": ("tj_margin_C", "degC", "non-negative", "25 degC"),
+    "rth_factor": ("rth_factor", "1", "positive", "1.5"),
+}
+# key: (field, the words it takes): text choices, not quantities
+CHOICES = {
+    "extrapolation": ("extrapolation", ("conservative", "fit", "none")),  # method §1
 }
 RULES = {  # rule: (test the value must pass, what the message says otherwise)
     "positive": (lambda x: x > 0, "must be above zero"),
@@ -78,7 +83,8 @@ EXAMPLES = {"name": '"pass"', "refs": '["Q1"]', "use": '"high-side-pmos"', "volu
             "gate_driver": '"latch"', "base_from": '"pass"',
             "base_off": '"driven"', "series": '"E24"', "tolerance": '"5 %"', "resistors.max": '"2.2 Mohm"',
             "supply.min": '"3.0 V"', "supply.max": '"4.2 V"', "ambient.min": '"-20 degC"',
-            "ambient.max": '"45 degC"', **{k: f'"{v[3]}"' for k, v in QUANTITIES.items()}}
+            "ambient.max": '"45 degC"', **{k: f'"{v[3]}"' for k, v in QUANTITIES.items()},
+            **{k: f'"{v[1][0]}"' for k, v in CHOICES.items()}}
 
 # option key -> (table, key); key None: a range 'MIN..MAX' filling min and max
 OPTION_KEYS = {"supply": ("supply", None), "ambient": ("ambient", None), "capacity": ("supply", "capacity"),

@@ -46,7 +46,8 @@ def _doc_of(req: Requirements) -> dict:
     return {"supply": {k: v for k, v in (("min", s.min_V), ("max", s.max_V), ("capacity", s.capacity_Ah))
                        if v is not None},
             "ambient": {"min": a.min_C, "max": a.max_C}, "build": {"volume": req.volume},
-            "margins": {"derate_v": m.derate_v, "derate_i": m.derate_i, "tj_margin": m.tj_margin_C},
+            "margins": {"derate_v": m.derate_v, "derate_i": m.derate_i, "tj_margin": m.tj_margin_C,
+                        "extrapolation": m.extrapolation, "rth_factor": m.rth_factor},
             **({} if req.resistors is None else {"resistors": {
                 "series": req.resistors.series, "tolerance": req.resistors.tolerance,
                 "max": req.resistors.max_ohm}}),

@@ -19,7 +19,7 @@ import tomllib
 from dataclasses import dataclass
 
 from picker.catalog.quantities import format_quantity, parse_quantity
-from picker.design.keys import (AUTO, AUTO_KEYS, BASE_OFF, COMMON_KEYS,  # noqa: F401 (QUICK_*, OPTION_KEYS: re-exported)
+from picker.design.keys import (AUTO, AUTO_KEYS, BASE_OFF, CHOICES, COMMON_KEYS,  # noqa: F401 (QUICK_*, OPTION_KEYS: re-exported)
                                 DRIVER_OF, EXAMPLES, FAMILY_KEYS, KIND_OF_USE,
                                 LINK_KEYS, NEEDS_DRIVER, MAX_FILE_BYTES, MAX_MAGNITUDE, MAX_QTY,
                                 MAX_REFS, MAX_ROLES, MAX_VOLUME, OPTION_KEYS, PASS_USES, QUANTITIES,
@@ -47,6 +47,8 @@ class Margins:
     derate_v: float = 0.8      # common practice (models/README.md §6)
     derate_i: float = 0.5      # common practice (models/README.md §6)
     tj_margin_C: float = 25.0  # below the part's tj_max_C, common practice (models/README.md §3)
+    extrapolation: str = "conservative"  # below the lowest rated drive (models/README.md §1)
+    rth_factor: float = 1.0    # the real board's θJA over the JESD51 test board's (models/README.md §3)
 
 
 @dataclass(frozen=True)
@@ -153,6 +155,16 @@ def _quantity(where, path: tuple, value, unit: str, rule: str, example: str):
     return number
 
 
+def _choice(where, path: tuple, value, words: tuple[str, ...]) -> str:
+    """One of `words` (case and surrounding spaces ignored)."""
+    text = value.strip().lower() if isinstance(value, str) else None
+    if text not in words:
+        close = _closest(str(value), words, cutoff=0.5) if isinstance(value, str) else []
+        tip = f"did you mean {_or(close)}?" if close else f"one of {_or(words)}"
+        where.fail(path, f"'{value}' is not a choice here; {tip}")
+    return text
+
+
 def _count(where, path: tuple, value, limit: int) -> int:
     if isinstance(value, str) and re.fullmatch(r"\s*\d+\s*", value):
         digits = value.strip().lstrip("0") or "0"
@@ -211,7 +223,9 @@ def _build(doc: dict, where, source: str) -> Requirements:
     ambient = Ambient(*_range(where, ambient_t, "ambient", "degC", "temperature"))
     volume = _count(where, ("build", "volume"), build_t["volume"], MAX_VOLUME)
     margins = Margins(**{QUANTITIES[k][0]: _quantity(where, ("margins", k), v, *QUANTITIES[k][1:])
-                         for k, v in margins_t.items()})
+                         for k, v in margins_t.items() if k in QUANTITIES},
+                      **{CHOICES[k][0]: _choice(where, ("margins", k), v, CHOICES[k][1])
+                         for k, v in margins_t.items() if k in CHOICES})
     resistors = (read_resistors(where, _table(where, doc, "resistors", ()), _quantity)
                  if "resistors" in doc else None)
     roles = doc.get("role")

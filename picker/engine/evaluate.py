@@ -42,18 +42,34 @@ NOTE_FLAGS = {  # flag column -> note text
     "eol": "eol",
     "nrnd": "nrnd",
 }
-NOTE_MEANINGS = {  # note text -> what it means, for the legend under a table
-    "extrapolated": "a figure read past the datasheet's points (picker/models/README.md §1, §6)",
-    "far below data": "the collector current is under a tenth of the lowest hFE point's: the "
-                      "gain there is a guess, and real gain falls faster (models/README.md §6)",
-    "vbe assumed": "no Vbe(sat) or Vbe(on) in the catalogue: 0.75 V assumed at 25 °C "
-                   "(models/README.md §6)",
-    "not guaranteed": "the circuit forces a gain Ic/Ib above 10, the datasheet's Vce(sat) "
-                      "condition: the Vce(sat) figure is not guaranteed (models/README.md §6)",
-    "below first break": "the quantity is below the lowest price break: its price is used",
-    "no price": "no price in the catalogue",
-    "eol": "end of life",
-    "nrnd": "not recommended for new designs",
+# What each note (and each word a reason leans on) means: one sentence each,
+# printed as a legend wherever it appears.
+NOTE_MEANINGS = {
+    "extrapolated": "evaluated outside the drives or currents its datasheet rates: below the "
+                    "lowest rated drive on the safe side, above the highest as if driven at it "
+                    "(picker/models/README.md §1, §6).",
+    "vbe assumed": "the catalogue gives neither vbe_sat_max_V nor vbe_on_V, so a base-emitter "
+                   "voltage of 0.75 V is assumed (picker/models/README.md §6).",
+    "far below data": "the collector current is under a tenth of the lowest hFE point's, where "
+                      "real gain falls faster than the data is continued (picker/models/README.md "
+                      "§6).",
+    "not guaranteed": "the datasheet's Vce(sat) holds at Ic/Ib = 10 and this circuit forces a "
+                      "higher gain, so the figure is shown but not promised "
+                      "(picker/models/README.md §6).",
+    "thermal runaway": "no junction temperature below 1000 °C balances the part's heat, or its "
+                       "channel saturates as it warms, so it has no on-state figures "
+                       "(picker/models/README.md §3).",
+    "channel saturates": "at this drive the channel cannot carry the load in its triode region "
+                         "(2 K' I > Vov²), so the part has no on-state figures "
+                         "(picker/models/README.md §1).",
+    "below first break": "the build buys fewer parts than the smallest price break, so that "
+                         "break's price is used (picker/models/README.md §7).",
+    "no price": "the catalogue has no price for the part: it can be feasible but is not chosen "
+                "(picker/models/README.md §7-§8).",
+    "eol": "the catalogue marks the part end-of-life; the verdict is unchanged "
+           "(picker/models/README.md §8).",
+    "nrnd": "the catalogue marks the part not recommended for new designs; the verdict is "
+            "unchanged (picker/models/README.md §8).",
 }
 
 

@@ -6,8 +6,10 @@ base current falls. For each candidate this module finds the lowest supply
 voltage at which the part still passes the role's supply-dependent checks, at
 each ambient corner:
 
-- pass switches (high-side-pmos, low-side-nmos): `gate_drive`, `drop`, and
-  `tj` where it can be decided (models/README.md §6, §3);
+- pass switches (high-side-pmos, low-side-nmos): `gate_drive`, `ohmic`,
+  `drop`, and `tj` where it can be decided (picker/models/README.md §1, §6,
+  §3); below the depth limit of §1 no figure exists, so the part does not
+  work there either;
 - saturated switches (npn-switch, pnp-switch): `saturation` (models/README.md §6).
 
 The figure is the engine's own answer, not a second model: each trial runs
@@ -40,8 +42,8 @@ it) or at none (status `never`). Both are reported without a voltage.
 Status per corner and overall (`lowest_supply_status`):
 
 - `found`: `lowest_supply_V` holds the voltage; `lowest_supply_limit` names
-  the check that fails just below it (`gate_drive`, `drop`, `tj`,
-  `saturation`);
+  what stops it just below (`gate_drive`, `ohmic`, `figures` (no figure
+  below the depth limit), `drop`, `tj`, `saturation`);
 - `any`: fixed drive, and the part works;
 - `never`: the part fails at the top of the search range, or (fixed drive) at
   any supply; `lowest_supply_limit` names the failing check;
@@ -125,9 +127,15 @@ def verdict(table: pd.DataFrame, role: Role) -> tuple[np.ndarray, np.ndarray, np
         gate = np.asarray(table["check_gate_drive"])
         drop = np.asarray(table["check_drop"])
         tj = np.asarray(table["check_tj"])
+        ohmic = np.asarray(table["check_ohmic"])
         works = (gate == PASS) & (drop == PASS) & (tj != FAIL)
+        # below the drive that works: the gate, the channel saturating, no
+        # figure at all (the depth limit of §1), the drop or the junction
         limit = np.where(gate != PASS, "gate_drive",
-                         np.where(drop != PASS, "drop", np.where(tj == FAIL, "tj", "")))
+                         np.where(ohmic == FAIL, "ohmic",
+                                  np.where(drop == UNKNOWN, "figures",
+                                           np.where(drop != PASS, "drop",
+                                                    np.where(tj == FAIL, "tj", "")))))
         unknown = (gate == UNKNOWN) | ((gate == PASS) & (drop == UNKNOWN))
     else:
         sat = np.asarray(table["check_saturation"])
@@ -285,6 +293,8 @@ def _requirement(role: Role) -> str:
 
 
 _BELOW = {"gate_drive": "the gate is no longer driven on", "drop": "the drop is over the limit",
+          "ohmic": "the channel saturates at the load",
+          "figures": "the drive is too far below the datasheet's rated drives for any figure",
           "tj": "the junction runs over its limit", "saturation": "the base drive is too weak"}
 
 

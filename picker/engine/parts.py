@@ -105,8 +105,7 @@ class PartData:
             elif key[0] == "identity":
                 memo[key] = {name: column[rows] for name, column in value.items()}
             elif key[0] == "fit":
-                memo[key] = mosfet.OnResistanceFit(*(np.asarray(f)[rows] for f in (
-                    value.r_fix_ohm, value.k_ohm_V, value.lowest_drive_V, value.n_points)))
+                memo[key] = value.take(rows)
         if self.rows is None:
             within = rows
         else:

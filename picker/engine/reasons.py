@@ -12,6 +12,9 @@ import pandas as pd
 
 from picker.catalog.quantities import format_quantity as q
 from picker.engine.evaluate import FAIL, PASS, RoleResult
+from picker.engine.pass_switch import (GATE_OFF, NOT_EXTRAPOLATED, RUNAWAY, SATURATES,
+                                       TOO_DEEP)
+from picker.models.thermal import RUNAWAY_BOUND_C
 
 
 def _v(x: float, unit: str, digits: int = 3) -> str:
@@ -38,13 +41,22 @@ def _fail_text(check: str, row: pd.Series, role, req) -> str:
         need = row["vt_cold_V"] + 0.1
         return (f"gate drive {_v(row['vgs_V'], 'V')} < {_v(need, 'V')} needed at the cold corner "
                 f"(Vth max {_v(row['vt_cold_V'], 'V')} at {req.ambient.min_C:g} °C + 0.1 V)")
+    if check == "ohmic":
+        return (f"ohmic: the channel saturates: at this drive it carries at most "
+                f"{_v(row['ohmic_max_A'], 'A')} in its triode region, the load is "
+                f"{_v(role.load_A, 'A')}")
     if check == "drop":
-        return (f"drop {_v(row['drop_V'], 'V')} > {_v(role.max_drop_V, 'V')} "
-                f"at the {row['corner']} corner")
+        drop, corner = _worse(row, "drop_{}_V")
+        if not math.isfinite(float(row["drop_V"])) and not drop > role.max_drop_V:
+            return f"drop fails: {_NO_DROP.get(int(row['no_figures']), 'no on-state figure')}"
+        return f"drop {_v(drop, 'V')} > {_v(role.max_drop_V, 'V')} at the {corner} corner"
     if check == "tj":
-        if not row["settled"]:
-            return "thermal runaway: the junction temperature does not settle"
-        return f"Tj {row['tj_C']:.0f} °C > {row['tj_limit_C']:.0f} °C limit"
+        if row["runaway"]:
+            return "thermal runaway: " + (
+                "the channel saturates as the junction warms" if row["runaway_saturates"]
+                else f"no junction temperature below {RUNAWAY_BOUND_C:g} °C balances the heat")
+        tj, corner = _worse(row, "tj_{}_C")
+        return f"Tj {tj:.0f} °C > {row['tj_limit_C']:.0f} °C limit at the {corner} corner"
     if check == "off_current":
         how = ""
         if row.get("open_base", False):
@@ -91,6 +103,19 @@ def _base_off_text(row, role, req) -> str:
             f"Vbe {vbe} at the cold corner")
 
 
+def _worse(row, pattern: str) -> tuple[float, str]:
+    """The larger of a figure's cold and hot values ('drop_{}_V'), and its corner."""
+    cold, hot = (float(row.get(pattern.format(c), math.nan)) for c in ("cold", "hot"))
+    if math.isnan(hot) or (not math.isnan(cold) and cold >= hot):
+        return cold, "cold"
+    return hot, "hot"
+
+
+# Why a drop fails without a figure (pass_switch's `no_figures` codes).
+_NO_DROP = {GATE_OFF: "the gate is not driven on", SATURATES: "the channel saturates at the load",
+            RUNAWAY: "thermal runaway"}
+
+
 def _derated(name: str, rating: float, factor: float, unit: str, limit: str) -> str:
     """'Vds rating 20 V × 0.8 = 16 V < 24 V supply'."""
     return f"{name} rating {rating:g} {unit} × {factor:g} = {rating * factor:.3g} {unit} < {limit}"
@@ -98,6 +123,7 @@ def _derated(name: str, rating: float, factor: float, unit: str, limit: str) -> 
 
 _NEEDS = {
     "gate_drive": "vgs_th_max_V",
+    "ohmic": "on-resistance points and vgs_th_max_V",
     "drop": "on-resistance points and vgs_th_max_V",
     "tj": "rth_ja_C/W, and tj_max_C or the role's max_tj",
     "off_current": "idss_uA / icbo_nA",
@@ -109,8 +135,20 @@ _NEEDS = {
 
 
 def _unknown_text(check: str, row: pd.Series, role, req) -> str:
-    if check in ("drop", "tj") and int(row.get("check_gate_drive", PASS)) == FAIL:
+    if check in ("ohmic", "drop", "tj") and int(row.get("check_gate_drive", PASS)) == FAIL:
         return f"{check} not evaluated: the gate is not driven on"
+    if check in ("ohmic", "drop", "tj"):
+        why = int(row.get("no_figures", 0))
+        if why == TOO_DEEP:
+            return (f"{check} unknown: the {_v(row['vgs_V'], 'V')} drive is below "
+                    f"{_v(row['depth_limit_V'], 'V')}, half-way from the lowest rated drive "
+                    f"{_v(row['lowest_rated_V'], 'V')} to the threshold; no datasheet figure "
+                    "reaches that far (picker/models/README.md §1)")
+        if why == NOT_EXTRAPOLATED:
+            return (f"{check} unknown: the {_v(row['vgs_V'], 'V')} drive is below the lowest "
+                    f"rated drive {_v(row['lowest_rated_V'], 'V')}, and extrapolation = \"none\"")
+        if check == "tj" and why == SATURATES:
+            return "tj not evaluated: the channel saturates at the load"
     if check == "vce_sat" and row.get("not_guaranteed", False):
         if row.get("base_off_state", False):
             return "Vce(sat) not guaranteed: the switch is not turned on"

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import pandas as pd
 
-from picker.engine.evaluate import DesignResult, RoleResult, notes
+from picker.engine.evaluate import NOTE_MEANINGS, DesignResult, RoleResult, notes
 from picker.engine.reasons import _v, reasons
 from picker.present.render import Column, Report, Section
 
@@ -113,12 +113,25 @@ def _display_rows(table: pd.DataFrame, r: RoleResult,
     return rows
 
 
+def legend(shown_notes, texts=()) -> list[str]:
+    """What the notes that appear mean, one line each (NOTE_MEANINGS), for
+    the notes shown in a table and the words the shown reasons use; nothing
+    when none appears."""
+    seen = set(shown_notes)
+    text = " ".join(texts)
+    lines = [f"  {note}: {meaning}" for note, meaning in NOTE_MEANINGS.items()
+             if note in seen or note in text]
+    return ["What the notes mean:", *lines] if lines else []
+
+
 def choose_report(design: DesignResult, *, top: int = 5, show_all: bool = False) -> Report:
     """The table output of `picker choose`: per role the feasible parts ranked,
     the cheapest rejected parts with their reasons, the design summary and
     the cautions."""
     req = design.requirements
     sections: list[Section] = []
+    shown_notes: list[str] = []
+    shown_why: list[str] = []
     for r in design.roles:
         feasible = r.feasible if show_all else r.feasible.head(top)
         columns = _pass_columns() if r.role.is_pass_switch else _switch_columns()
@@ -130,17 +143,20 @@ def choose_report(design: DesignResult, *, top: int = 5, show_all: bool = False)
                            "(--top N or --all to see them)")
         rejected = r.cheapest_rejected(None if show_all else top)
         low = _lowest_supply(pd.concat([feasible, rejected]), r, req)  # one search for both
-        sections.append(Section(_role_heading(r, req), columns, _display_rows(feasible, r, low),
-                                caption=caption))
+        shown = _display_rows(feasible, r, low)
+        shown_notes += [n for d in shown for n in d["notes"]]
+        sections.append(Section(_role_heading(r, req), columns, shown, caption=caption))
         rows = [{"part": row["part"], "package": row["package"], "cost": row["cost"],
                  "why": "; ".join(reasons(row, r, req) + _lowest_reason(low, index, r, req))}
                 for index, row in rejected.iterrows()]
+        shown_why += [row["why"] for row in rows]
         if rows:
             sections.append(Section(
                 f"  rejected {r.role.name}, cheapest first ({r.n_rejected} in all)",
                 [Column("part"), Column("package"), Column("cost", "cost/board", numeric=True),
                  Column("why")], rows))
-    return Report(sections, notes=summary_lines(design) + [""] + CAUTIONS)
+    key = legend(shown_notes, shown_why)
+    return Report(sections, notes=key + [""] * bool(key) + summary_lines(design) + [""] + CAUTIONS)
 
 
 def _lowest_reason(low: pd.DataFrame | None, index, r: RoleResult, req) -> list[str]:

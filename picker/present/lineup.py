@@ -305,6 +305,10 @@ def _check_rows(lineup: Lineup) -> list[Row]:
         outcome = [OUTCOME[int(v)] for v in cand[f"check_{check}"]]
         rows.append(Row(f"check.{check}", check, None, outcome, "checks",
                         cells=[o.upper() if o == "fail" else o for o in outcome]))
+    from picker.engine.evaluate import notes
+
+    rows.append(Row("notes", "notes", None,
+                    [", ".join(notes(c)) for _, c in cand.iterrows()], "checks"))
     verdict = ["feasible" if f else "rejected" for f in cand["feasible"]]
     rows.append(Row("verdict", "verdict", None, verdict, "checks",
                     cells=["feasible" if f else f"REJECTED ({int(n)} failing)"
@@ -402,7 +406,12 @@ def report(lineup: Lineup):
     section = Section(title, columns, table_rows, bold=bold)
     notes = list(lineup.notes)
     if lineup.role is not None:
-        notes += [""] + CAUTIONS
+        from picker.engine.evaluate import notes as notes_of
+        from picker.present.explain import legend
+
+        shown = [n for _, cand in lineup.candidates.iterrows() for n in notes_of(cand)]
+        key = legend(shown, lineup.notes)
+        notes += ([""] + key if key else []) + [""] + CAUTIONS
     csv_columns = [Column("row"), Column("label"), Column("unit")] + \
         [Column(n, numeric=True) for n in names]
     csv_rows = []

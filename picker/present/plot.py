@@ -161,8 +161,9 @@ def _rds_chart(parts, role, req, points) -> Chart:
     vt25 = values(parts, "vgs_th_max_V")
     drives, rds_mohm = point_family(parts, "rds_on_mohm")
     fit = mosfet.fit_on_resistance(drives, rds_mohm / 1000.0, vt25)
-    k_vt = np.abs(values(parts, "vgs_th_tc_mV/C")) / 1000.0
+    k_vt = mosfet.k_vt_of(values(parts, "vgs_th_tc_mV/C"), vt25)
     a = values(parts, "rds_tc_pct/C") / 100.0
+    mode = req.margins.extrapolation
     used = np.isfinite(rds_mohm) & np.isfinite(np.broadcast_to(drives, rds_mohm.shape))
     vgs_lo = req.supply.min_V - role.gate_drive_drop_V
     vgs_hi = req.supply.max_V - role.gate_drive_drop_V
@@ -177,9 +178,10 @@ def _rds_chart(parts, role, req, points) -> Chart:
     grid = np.linspace(min(lo, vgs_lo), 1.05 * top, points)
     series = []
     for i, name in enumerate(names):
-        r = mosfet.on_resistance(grid, 25.0, fit.r_fix_ohm[i], fit.k_ohm_V[i], vt25[i],
-                                 k_vt[i], a[i])
-        r = np.where(grid >= starts[i], r, np.nan)
+        # as the engine reads the datasheet (§1): extrapolated below the lowest
+        # rated drive, held above the highest, and no line below the depth limit
+        r = mosfet.small_signal(grid, 25.0, fit.take([i]), vt25[i:i + 1], k_vt[i:i + 1],
+                                a[i:i + 1], mode)
         rf, k = fit.r_fix_ohm[i] * 1000, fit.k_ohm_V[i] * 1000
         fit_text = (f"R = {rf:.3g} + {k:.3g}/(Vg − {vt25[i]:g}) mΩ" if np.isfinite(k)
                     else "no fit")
@@ -198,8 +200,11 @@ def _rds_chart(parts, role, req, points) -> Chart:
                   "through the datasheet points", "gate drive |Vgs| (V)",
                   "Rds(on) (mΩ)", series, vlines=vlines, y_scale=1000.0,
                   y_top=1.6 * float(known.max()) if known.size else None)
-    chart.notes.append("model: R = R_fix + K/(Vg − Vgs(th) max), least squares through the "
-                       "points (models/README.md §1); the operating corners add the temperature terms")
+    chart.notes.append("model: R = R_fix + K/(Vg − Vgs(th) max), least squares lifted onto the "
+                       f"points; below the lowest rated drive the {mode} rule, above the highest "
+                       "held at its value, no line below half-way to the threshold "
+                       "(picker/models/README.md §1); the operating corners add the temperature "
+                       "terms and the drop at the load the whole triode law")
     return chart
 
 
