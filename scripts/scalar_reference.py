@@ -186,10 +186,10 @@ def evaluate(part: dict, role: dict) -> dict:
             c["why"] = "gate"
         elif not fitted:
             c["why"] = "no data"
-        elif not usable:
-            c["why"] = "not extrapolated"
         elif vg_eff < 0.5 * (v_lo + vt):
             c["why"] = "too deep"
+        elif not usable:
+            c["why"] = "not extrapolated"
         elif not _finite(drop_at(ta, load)):
             c["why"] = "saturates"
         else:

@@ -47,6 +47,8 @@ def choose(
     derate_v: Annotated[Optional[str], _opt("--derate-v", help="Voltage derating (default 0.8).")] = None,
     derate_i: Annotated[Optional[str], _opt("--derate-i", help="Current derating (default 0.5).")] = None,
     tj_margin: Annotated[Optional[str], _opt("--tj-margin", help="Margin below the part's Tj max (default 25degC).")] = None,
+    extrapolation: Annotated[Optional[str], _opt("--extrapolation", help="Below a part's lowest rated drive: conservative (default), fit or none (picker/models/README.md §1).", metavar="MODE")] = None,
+    rth_factor: Annotated[Optional[str], _opt("--rth-factor", help="Multiplies every θJA: your board against the JESD51 test board's (default 1).", metavar="X")] = None,
 ) -> None:
     """Evaluate every catalogue part for each role at the worst-case corners and
     rank the feasible ones by cost at the build volume.
@@ -72,6 +74,7 @@ def choose(
         "base_resistor": base_resistor, "base_pulldown": base_pulldown, "base_off": base_off,
         "overdrive": overdrive, "max_vce_sat": max_vce_sat,
         "max_off": max_off, "derate_v": derate_v, "derate_i": derate_i, "tj_margin": tj_margin,
+        "extrapolation": extrapolation, "rth_factor": rth_factor,
     }
     given = {k: v for k, v in options.items() if v is not None}
     if requirements is None and not given:

@@ -180,9 +180,9 @@ def _corner(channel, drive, fit, power, vt25_V, k_vt, rth, ta_C, vgs_V, load_A,
 
     why = np.full(np.shape(vt25_V), FIGURES, dtype=np.int8)
     why = np.where(saturates, np.int8(SATURATES), why)
-    why = np.where(too_deep, np.int8(TOO_DEEP), why)
     why = np.where(~drive.usable & np.isfinite(fit.k_ohm_V) & gate_known,
                    np.int8(NOT_EXTRAPOLATED), why)
+    why = np.where(too_deep, np.int8(TOO_DEEP), why)  # in every mode (§1)
     why = np.where(~np.isfinite(fit.k_ohm_V) | ~gate_known, np.int8(NO_DATA), why)
     why = np.where(gate_known & ~gate_ok, np.int8(GATE_OFF), why)
 

@@ -26,11 +26,19 @@ def reasons(row: pd.Series, result: RoleResult, req) -> list[str]:
     then each check that could not be decided and what data it lacks."""
     role = result.role
     out: list[str] = []
+    said: dict[str, int] = {}  # an undecided check's explanation -> its place in `out`
     for check in result.checks:
         code = int(row[f"check_{check}"])
         if code == PASS:
             continue
         text = (_fail_text if code == FAIL else _unknown_text)(check, row, role, req)
+        head, sep, body = text.partition(" unknown: ")
+        if code != FAIL and sep and body in said:  # the same cause: name both checks once
+            at = said[body]
+            out[at] = out[at].replace(" unknown: ", f", {head} unknown: ", 1)
+            continue
+        if code != FAIL and sep:
+            said[body] = len(out)
         out.append(text)
     return out
 
