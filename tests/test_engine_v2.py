@@ -183,7 +183,7 @@ def test_runaway_by_saturation_as_the_junction_warms(tmp_path):
 
 
 @pytest.mark.parametrize("text, fragment", [
-    ('extrapolation = "wild"', "'wild' is not a choice here; one of 'conservative', 'fit' or 'none'"),
+    ('extrapolation = "wild"', "'wild' must be \"conservative\" or \"fit\" or \"none\""),
     ('extrapolation = "fitt"', "did you mean 'fit'?"),
     ("rth_factor = -1", "must be above zero"),
 ])

@@ -155,16 +155,6 @@ def _quantity(where, path: tuple, value, unit: str, rule: str, example: str):
     return number
 
 
-def _choice(where, path: tuple, value, words: tuple[str, ...]) -> str:
-    """One of `words` (case and surrounding spaces ignored)."""
-    text = value.strip().lower() if isinstance(value, str) else None
-    if text not in words:
-        close = _closest(str(value), words, cutoff=0.5) if isinstance(value, str) else []
-        tip = f"did you mean {_or(close)}?" if close else f"one of {_or(words)}"
-        where.fail(path, f"'{value}' is not a choice here; {tip}")
-    return text
-
-
 def _count(where, path: tuple, value, limit: int) -> int:
     if isinstance(value, str) and re.fullmatch(r"\s*\d+\s*", value):
         digits = value.strip().lstrip("0") or "0"
