@@ -25,6 +25,7 @@ USES = {"high-side-pmos": "pmos", "low-side-nmos": "nmos", "npn-switch": "npn", 
 # interfaces.md, "JSON output of picker choose": names and types
 TOP_FIELDS = {"volume": int, "roles": list, "cost_per_board": (float, int, type(None)),
               "off_current_A": (float, int, type(None)),
+              "on_drive_current_A": (float, int, type(None)),  # models/README.md §9
               "drain_per_year_pct": (float, int, type(None))}
 ROLE_FIELDS = {"name": str, "use": str, "refs": list, "choice": (str, type(None)),
                "candidates": list}

@@ -203,13 +203,3 @@ def test_link_given_as_an_option_to_a_missing_role():
     with pytest.raises(RequirementError) as err:
         from_options({"gate_driver": "nobody"}, base, "pass")
     assert str(err.value).startswith("--gate-driver: no role named 'nobody'")
-
-
-def test_linked_roles_are_refused_until_evaluated(tmp_path):
-    """Until the engine evaluates links, a linked file is refused in one line (exit 2),
-    never evaluated with the links left out."""
-    path = tmp_path / "latch.toml"
-    path.write_text(LATCH, encoding="utf-8")
-    result = invoke("choose", str(path))
-    assert result.exit_code == 2, result.output
-    assert f"\nError: {path}: role 'pass': gate_driver (models/README.md §10)" in result.output

@@ -131,7 +131,7 @@ class Result:
     >>> result.cost_per_board > 0, result.complete
     (True, True)
     >>> sorted(result.to_dict())
-    ['cost_per_board', 'drain_per_year_pct', 'off_current_A', 'roles', 'volume']
+    ['cost_per_board', 'drain_per_year_pct', 'off_current_A', 'on_drive_current_A', 'roles', 'volume']
     """
 
     def __init__(self, design: Design, catalog: Catalog, engine: _engine.DesignResult) -> None:

@@ -17,11 +17,13 @@ TOP_KEYS = ("supply", "ambient", "build", "margins", "resistors", "role")
 TABLE_KEYS = {"supply": ("min", "max", "capacity"), "ambient": ("min", "max"),
               "build": ("volume",), "margins": ("derate_v", "derate_i", "tj_margin", "extrapolation", "rth_factor"),
               "resistors": ("series", "tolerance", "max")}
-# [resistors] (models/README.md §6): IEC 60063's series, and the tolerance each
+# [resistors] (models/README.md §6, §10): IEC 60063's series, and the tolerance each
 # implies when the file gives none (common practice); the largest "auto" value.
-SERIES = ("E6", "E12", "E24", "E48", "E96", "E192")
-SERIES_TOLERANCE = {"E6": 0.20, "E12": 0.10, "E24": 0.05, "E48": 0.01, "E96": 0.01, "E192": 0.01}
-DEFAULT_SERIES, DEFAULT_RESISTOR_MAX_OHM, SMALLEST_RESISTOR_OHM = "E24", 2.2e6, 100.0
+# One source for them: the series' own module (it imports numpy only when used).
+from picker.models.eseries import DEFAULT_MAX_OHM as DEFAULT_RESISTOR_MAX_OHM  # noqa: E402
+from picker.models.eseries import DEFAULT_SERIES, SERIES  # noqa: E402
+from picker.models.eseries import DEFAULT_TOLERANCE as SERIES_TOLERANCE  # noqa: E402
+from picker.models.eseries import LOWEST_OHM as SMALLEST_RESISTOR_OHM  # noqa: E402
 BASE_OFF = ("driven", "open")  # what holds a switch's base while it is off (models/README.md §6)
 COMMON_KEYS = ("name", "refs", "use", "qty", "max_off_current")
 FAMILY_KEYS = {True: ("load", "max_drop", "gate_drive", "gate_drive_drop", "max_tj",  # by is_pass_switch

@@ -123,6 +123,10 @@ class Requirements:
         """The pass switch whose gate `driver` pulls, if any."""
         return next((r for r in self.roles if r.gate_driver == driver.name), None)
 
+    def in_link(self, role: Role) -> bool:
+        """True where the role is chosen together with another (models/README.md §10)."""
+        return role.is_linked or self.driven_by(role) is not None
+
     def role(self, name: str) -> Role:
         for r in self.roles:
             if r.name == name or r.name == name.strip():  # names are read stripped

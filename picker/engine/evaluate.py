@@ -142,19 +142,35 @@ class DesignResult:
     off_current_A: float = np.nan
     drain_per_year_pct: float | None = None
     missing: list[str] = field(default_factory=list)  # roles with no choice
+    links: list = field(default_factory=list)  # engine.linked.LinkResult, one per linked pair
+    on_drive_current_A: float = np.nan  # what the drive network draws while on (§9)
 
 
 # -- evaluation --------------------------------------------------------------
 
 def evaluate(catalog_df: pd.DataFrame, req: Requirements) -> DesignResult:
-    """Evaluate every role of `req` over the catalogue and total the design."""
-    roles = [evaluate_role(catalog_df, role, req) for role in req.roles]
-    return design_totals(req, roles)
+    """Evaluate every role of `req` over the catalogue and total the design;
+    linked roles (models/README.md §10) are chosen together, pair by pair."""
+    linked, links = {}, []
+    if any(req.in_link(r) for r in req.roles):
+        from picker.engine.linked import evaluate_links
+
+        linked, links = evaluate_links(catalog_df, req)
+    roles = [linked[role.name] if role.name in linked else evaluate_role(catalog_df, role, req)
+             for role in req.roles]
+    design = design_totals(req, roles)
+    design.links = links
+    return design
 
 
 def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> RoleResult:
-    """All catalogue parts of the role's kind: figures, checks, notes, rank."""
-    _refuse_linked(role, req)
+    """All catalogue parts of the role's kind: figures, checks, notes, rank. A
+    linked role (models/README.md §10) is evaluated with its link: its parts
+    against the other role's choice."""
+    if req.in_link(role):
+        from picker.engine.linked import evaluate_links
+
+        return evaluate_links(catalog_df, req)[0][role.name]
     mask = (catalog_df["kind"] == role.kind).to_numpy(dtype=bool)
     parts = PartData(catalog_df, rows=None if mask.all() else np.flatnonzero(mask))
     checks, figures = role_checks(role)
@@ -170,24 +186,6 @@ def evaluate_role(catalog_df: pd.DataFrame, role: Role, req: Requirements) -> Ro
     return RoleResult(role, frame, order, checks, figures, catalog_df)
 
 
-def _refuse_linked(role: Role, req: Requirements) -> None:
-    """Linked roles and "auto" resistors are read and checked (design.requirements)
-    but not evaluated by this engine yet: say so, rather than give figures that
-    leave the links out."""
-    from picker.errors import RequirementError
-
-    keys = [k for k, v in (("gate_driver", role.gate_driver), ("base_from", role.base_from))
-            if v is not None]
-    keys += [k for k, v in (("base_resistor", role.base_resistor_ohm),
-                            ("base_pulldown", role.base_pulldown_ohm)) if v == "auto"]
-    if keys or (not role.is_pass_switch and role.collector_current_A is None):
-        raise RequirementError(f"role '{role.name}': {', '.join(keys) or 'a gate driver'} "
-                               "(models/README.md §10) cannot be evaluated by this version of "
-                               "picker yet; give gate_drive_drop, collector_current and "
-                               "base_resistor values instead",
-                               file=req.source if req.source not in ("", "command line") else None)
-
-
 def role_checks(role: Role) -> tuple[tuple[str, ...], tuple[str, ...]]:
     """The checks that decide the role (those its requirements ask for) and
     the figures reported for it."""
@@ -197,6 +195,8 @@ def role_checks(role: Role) -> tuple[tuple[str, ...], tuple[str, ...]]:
         checks, figures = SWITCH_CHECKS, SWITCH_FIGURES
         if role.max_vce_sat_V is None:
             checks = tuple(c for c in checks if c != "vce_sat")
+        if role.base_resistor_ohm == "auto":
+            figures = figures + ("base_resistor_ohm",)
     if role.max_off_current_A is None:
         checks = tuple(c for c in checks if c != "off_current")
     return checks, figures
@@ -206,6 +206,8 @@ def _role_columns(parts: PartData, role: Role, req: Requirements, checks) -> dic
     """Figures, check outcomes, price and verdict of `parts` (none of the
     columns `catalogue_columns` gives)."""
     columns = pass_switch_columns if role.is_pass_switch else saturated_switch_columns
+    if not role.is_pass_switch and role.base_resistor_ohm == "auto":  # models/README.md §10
+        from picker.engine.links import auto_base_columns as columns
     out = columns(parts, role, req, catalogue=False)
     _price(out, parts, role, req)
     # Column by column: a reduction along a short row axis is slow in numpy.
@@ -319,9 +321,39 @@ def design_totals(req: Requirements, roles: list[RoleResult]) -> DesignResult:
         off += float(choice["off_current_A"]) * r.role.parts_per_board
     result.cost_per_board = cost
     result.off_current_A = off
+    result.on_drive_current_A = on_drive_current(req, roles)
     if req.supply.capacity_Ah:
         result.drain_per_year_pct = off * HOURS_PER_YEAR / req.supply.capacity_Ah * 100.0
     return result
+
+
+def on_drive_current(req: Requirements, roles: list[RoleResult]) -> float:
+    """models/README.md §9: what the drive network draws while the product is on,
+    from a full cell with each resistor at its low end: every gate pull-up's
+    supply.max / R_pu_min and every base resistor's (drive - Vbe(ambient.max)) /
+    Rb_min, times the parts per board. A role without a base resistor value, or
+    without a choice, adds nothing."""
+    from picker.engine.links import Series
+
+    series = Series.of(req)
+    total = 0.0
+    for r in roles:
+        c = r.choice
+        if c is None:
+            continue
+        role, n = r.role, r.role.parts_per_board
+        pullup = c.get("gate_pullup_ohm")
+        if role.is_pass_switch and pullup is not None and np.isfinite(pullup):
+            total += n * req.supply.max_V / (pullup * (1 - series.tol(role.gate_pullup_ohm)))
+        if role.is_pass_switch:
+            continue
+        rb = c.get("base_resistor_ohm", role.base_resistor_ohm)
+        if rb is None or not np.isfinite(float(rb)):
+            continue
+        drive = req.supply.max_V if role.base_drive_V is None else role.base_drive_V
+        vbe_hot = float(c["vbe_cold_V"]) - 0.002 * (req.ambient.max_C - req.ambient.min_C)
+        total += n * max(drive - vbe_hot, 0.0) / (float(rb) * (1 - series.tol(role.base_resistor_ohm)))
+    return total
 
 
 # -- presenting one candidate --------------------------------------------------
@@ -357,10 +389,16 @@ def design_json(design: DesignResult, *, limit: int | None = None) -> dict:
             "choice": None if choice is None else choice["part"],
             "candidates": [candidate_json(row, r) for _, row in table.iterrows()],
         })
-    return clean({
+    doc = {
         "volume": design.requirements.volume,
         "roles": roles,
         "cost_per_board": design.cost_per_board,
         "off_current_A": design.off_current_A,
+        "on_drive_current_A": design.on_drive_current_A,
         "drain_per_year_pct": design.drain_per_year_pct,
-    })
+    }
+    if design.links:
+        from picker.engine.linked import links_json
+
+        doc["links"] = links_json(design)
+    return clean(doc)

@@ -48,7 +48,8 @@ def pass_switch(parts, role: Role, req: Requirements) -> pd.DataFrame:
 
 
 def pass_switch_columns(parts, role: Role, req: Requirements, *,
-                        on_state_only: bool = False, catalogue: bool = True) -> dict:
+                        on_state_only: bool = False, catalogue: bool = True,
+                        vgs_V=None) -> dict:
     """`pass_switch` as a dict of arrays (no DataFrame made). `on_state_only`
     stops after the checks the supply can change (gate drive, ohmic, drop,
     Tj): all the lowest-supply search needs. `catalogue=False` leaves out the
@@ -62,11 +63,14 @@ def pass_switch_columns(parts, role: Role, req: Requirements, *,
     a = values(parts, "rds_tc_pct/C") / 100.0
     rth = values(parts, "rth_ja_C/W") * req.margins.rth_factor
     drive_V = req.supply.min_V if role.gate_drive_V is None else role.gate_drive_V
-    vgs_V = drive_V - role.gate_drive_drop_V
+    if vgs_V is None:
+        vgs_V = drive_V - role.gate_drive_drop_V
+    else:  # the gate drive a linked driver leaves (models/README.md §10), per part; NaN: unknown
+        vgs_V = np.asarray(vgs_V, dtype=float)
     channel, drive = mosfet.channel_at_drive(vgs_V, fit, vt25_V, k_vt, a,
                                              req.margins.extrapolation)
     power = mosfet.ChannelPower(channel, load_A)
-    gate_known = np.isfinite(vt25_V)
+    gate_known = np.isfinite(vt25_V) & np.isfinite(vgs_V)
 
     corners = {}
     for corner, ta_C in (("cold", req.ambient.min_C), ("hot", req.ambient.max_C)):

@@ -11,6 +11,7 @@ import math
 import pandas as pd
 
 from picker.catalog.quantities import format_quantity as q
+from picker.engine import link_reasons
 from picker.engine.evaluate import FAIL, PASS, RoleResult
 from picker.engine.pass_switch import (GATE_OFF, NOT_EXTRAPOLATED, RUNAWAY, SATURATES,
                                        TOO_DEEP)
@@ -31,6 +32,9 @@ def reasons(row: pd.Series, result: RoleResult, req) -> list[str]:
         code = int(row[f"check_{check}"])
         if code == PASS:
             continue
+        if check in link_reasons.LINK_CHECKS:
+            out.append(link_reasons.text(check, code, row, result, req))
+            continue
         text = (_fail_text if code == FAIL else _unknown_text)(check, row, role, req)
         head, sep, body = text.partition(" unknown: ")
         if code != FAIL and sep and body in said:  # the same cause: name both checks once
@@ -41,6 +45,12 @@ def reasons(row: pd.Series, result: RoleResult, req) -> list[str]:
             said[body] = len(out)
         out.append(text)
     return out
+
+
+def _ic(row, role) -> float:
+    """The collector current: the role's, or what a linked driver's pull-up draws."""
+    ic = row.get("collector_current_A")
+    return role.collector_current_A if ic is None or ic != ic else float(ic)
 
 
 def _fail_text(check: str, row: pd.Series, role, req) -> str:
@@ -79,18 +89,22 @@ def _fail_text(check: str, row: pd.Series, role, req) -> str:
     if check == "id_rating":
         return _derated("Id", row["id_max_A"], di, "A", f"{_v(role.load_A, 'A')} load")
     if check == "saturation":
+        if row.get("no_base_resistor", False):
+            return (f"saturation: no base resistor of the series fits: even 100R cannot give "
+                    f"Ib·hFE ≥ {role.overdrive:g} × {_v(_ic(row, role), 'A')} at the cold corner "
+                    "(and Ic/Ib ≤ 10 for a gate driver)")
         if row.get("base_off_state", False):
             return _base_off_text(row, role, req)
         return (f"Ib·hFE = {_v(row['ib_A'], 'A')} × {row['hfe']:.0f} = "
                 f"{_v(row['ib_A'] * row['hfe'], 'A')} < {role.overdrive:g} × "
-                f"{_v(role.collector_current_A, 'A')} at the cold corner")
+                f"{_v(_ic(row, role), 'A')} at the cold corner")
     if check == "vce_sat":
         return f"Vce(sat) {_v(row['vce_sat_V'], 'V')} > {_v(role.max_vce_sat_V, 'V')}"
     if check == "vceo_rating":
         return _derated("Vceo", row["vceo_max_V"], dv, "V", f"{req.supply.max_V:g} V supply")
     if check == "ic_rating":
         return (f"Ic rating {_v(row['ic_max_A'], 'A')} × {di:g} < "
-                f"{_v(role.collector_current_A, 'A')}")
+                f"{_v(_ic(row, role), 'A')}")
     return f"{check} fails"
 
 
@@ -103,11 +117,14 @@ def _hot_hfe_max(row, req) -> float:
 def _base_off_text(row, role, req) -> str:
     """Why the base network does not turn the switch on (Ib <= 0)."""
     drive = req.supply.min_V if role.base_drive_V is None else role.base_drive_V
+    drive = row.get("base_drive_V", drive)  # a linked role's: the switch's output
+    rb = row.get("base_resistor_ohm", role.base_resistor_ohm)
+    rpd = row.get("base_pulldown_ohm", role.base_pulldown_ohm)
     vbe = _v(row["vbe_cold_V"], "V")
-    if role.base_pulldown_ohm is None:
+    if rpd is None or rpd != rpd:
         return (f"off: the base drive {_v(drive, 'V')} is not above Vbe {vbe} at the cold corner")
-    return (f"off: the base drive {_v(drive, 'V')} through {_v(role.base_resistor_ohm, 'ohm')} "
-            f"cannot lift the base against the {_v(role.base_pulldown_ohm, 'ohm')} pull-down to "
+    return (f"off: the base drive {_v(drive, 'V')} through {_v(rb, 'ohm')} "
+            f"cannot lift the base against the {_v(rpd, 'ohm')} pull-down to "
             f"Vbe {vbe} at the cold corner")
 
 

@@ -40,16 +40,21 @@ def resistor_ends(role: Role, req: Requirements) -> dict:
 
 
 def saturated_switch_columns(parts, role: Role, req: Requirements, *,
-                             on_state_only: bool = False, catalogue: bool = True) -> dict:
+                             on_state_only: bool = False, catalogue: bool = True,
+                             linked: dict | None = None) -> dict:
     """`saturated_switch` as a dict of arrays (no DataFrame made).
     `on_state_only` stops after the saturation check (all the lowest-supply
-    search needs); `catalogue` as `pass_switch_columns`."""
+    search needs); `catalogue` as `pass_switch_columns`. `linked` (models/README.md
+    §10) gives, per part, what a linked role's partner sets: `ic_A`, `drive_V`
+    and the resistor `ends` (as `resistor_ends` gives them)."""
     parts = _data(parts)
     out = catalogue_columns(parts, SWITCH_RATINGS) if catalogue else {}
-    ic_A = role.collector_current_A
+    ic_A = role.collector_current_A if linked is None else linked["ic_A"]
     cold_C = req.ambient.min_C
-    ends = resistor_ends(role, req)
+    ends = resistor_ends(role, req) if linked is None else linked["ends"]
     drive_V = req.supply.min_V if role.base_drive_V is None else role.base_drive_V
+    if linked is not None:
+        drive_V = linked["drive_V"]
     vbe25_V, assumed = bipolar.vbe_25(values(parts, "vbe_sat_max_V"), values(parts, "vbe_on_V"))
     vbe_V = bipolar.vbe_at(vbe25_V, cold_C)
     ib_A = bipolar.base_current(drive_V, vbe_V, ends["rb_max"], ends["rpd_min"])
@@ -103,4 +108,6 @@ def saturated_switch_columns(parts, role: Role, req: Requirements, *,
                                             req.supply.max_V, at_least=True)
     out["check_ic_rating"] = _limit_check(values(parts, "ic_max_A") * req.margins.derate_i,
                                           ic_A, at_least=True)
+    if linked is not None:  # a linked driver's current is unknown where no pull-up fits
+        out["check_ic_rating"] = np.where(np.isnan(ic_A), np.int8(-1), out["check_ic_rating"])
     return out

@@ -17,9 +17,10 @@ integer times a power of ten.
 
 from __future__ import annotations
 
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
-import numpy as np
+if TYPE_CHECKING:  # numpy is imported where it is used: the series' names and
+    import numpy as np  # tolerances are read when a requirement file is, at start-up
 
 _E24 = (10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91)
 _E192 = (
@@ -60,6 +61,8 @@ def values(series: str, low_ohm: float = LOWEST_OHM, high_ohm: float = DEFAULT_M
     Every value is an integer mantissa times a power of ten, so 470 kohm is
     exactly 470000.0 (values under 1 ohm are the nearest float).
     """
+    import numpy as np
+
     table, scale = TABLES[series], _SCALE[series]
     if not (0 < low_ohm <= high_ohm < np.inf):
         return np.empty(0)
@@ -91,6 +94,8 @@ def largest_passing(passes: Callable[[np.ndarray], np.ndarray], n: int, series: 
     the base lower), so each part's answer is found by bisection over the
     series' index: about log2(number of values) calls, each over all parts.
     """
+    import numpy as np
+
     grid = values(series, low_ohm, high_ohm)
     if n == 0 or grid.size == 0:
         return np.full(n, np.nan)
@@ -118,6 +123,8 @@ def largest_at_most(bound_ohm, series: str, low_ohm: float = LOWEST_OHM,
     most `bound_ohm` (an array, or a scalar); NaN where none is (or the bound
     is NaN). For checks that reduce to `R (1 + tol) <= bound`, pass
     `bound / (1 + tol)`."""
+    import numpy as np
+
     grid = values(series, low_ohm, high_ohm)
     bound = np.asarray(bound_ohm, dtype=float)
     if grid.size == 0:

@@ -10,6 +10,7 @@ import pandas as pd
 
 from picker.engine.evaluate import NOTE_MEANINGS, DesignResult, RoleResult, notes
 from picker.engine.reasons import _v, reasons
+from picker.present import links_view
 from picker.present.render import Column, Report, Section
 
 # Lithium-ion self-discharge is a few percent a month (from memory, models/README.md §9).
@@ -31,6 +32,9 @@ CAUTIONS = [
 # -- the choose report ---------------------------------------------------------
 
 def _role_heading(r: RoleResult, req) -> str:
+    linked = links_view.heading(r, req)
+    if linked is not None:
+        return linked
     role = r.role
     refs = ", ".join(role.refs)
     quantity = req.volume * role.parts_per_board
@@ -80,6 +84,9 @@ def _lowest_supply(table: pd.DataFrame, r: RoleResult, req) -> pd.DataFrame | No
     """headroom.lowest_supply for the rows shown (None without the catalogue rows)."""
     if r.catalog_df is None or table.empty:
         return None
+    role = r.role
+    if req.in_link(role) or "auto" in (role.base_resistor_ohm, role.base_pulldown_ohm):
+        return None  # the supply search runs one role alone, with its resistors as given
     from picker.engine import headroom
 
     return headroom.lowest_supply(r.catalog_df.loc[table.index], r.role, req)
@@ -106,6 +113,7 @@ def _display_rows(table: pd.DataFrame, r: RoleResult,
     for index, d in zip(table.index, table.to_dict("records")):
         d["notes"] = notes(d)
         d["lowest_supply"] = _lowest_cell(lows.get(index))
+        links_view.add_codes(d)
         if role.is_pass_switch:
             d["drop_margin_V"] = role.max_drop_V - d["drop_V"]
             d["tj_margin_C"] = d["tj_limit_C"] - d["tj_C"]
@@ -129,12 +137,15 @@ def choose_report(design: DesignResult, *, top: int = 5, show_all: bool = False)
     the cheapest rejected parts with their reasons, the design summary and
     the cautions."""
     req = design.requirements
-    sections: list[Section] = []
+    sections: list[Section] = links_view.circuit_sections(design, reasons)
     shown_notes: list[str] = []
     shown_why: list[str] = []
     for r in design.roles:
         feasible = r.feasible if show_all else r.feasible.head(top)
         columns = _pass_columns() if r.role.is_pass_switch else _switch_columns()
+        extra = links_view.extra_columns(r)
+        if extra:  # the link's figures before the notes
+            columns = columns[:-1] + extra + columns[-1:]
         caption = []
         if r.feasible.empty:
             caption.append(f"no feasible part among {len(r.table)} {r.role.kind} parts")
@@ -189,6 +200,9 @@ def summary_lines(design: DesignResult) -> list[str]:
                  + (f" (without {', '.join(design.missing)})" if design.missing else ""))
     lines.append(f"  off-state current: {_v(design.off_current_A, 'A')} at "
                  f"{req.ambient.max_C:g} °C")
+    if design.on_drive_current_A == design.on_drive_current_A and design.on_drive_current_A > 0:
+        lines.append(f"  drive network while on: {_v(design.on_drive_current_A, 'A')} from a full "
+                     f"cell (pull-ups and base resistors at their low end), beside the loads")
     if design.drain_per_year_pct is not None:
         lo, hi = SELF_DISCHARGE_PCT_PER_MONTH
         lines.append(f"  drain: {design.drain_per_year_pct:.3g} % of the "
@@ -201,8 +215,10 @@ def choose_csv(design: DesignResult, limit: int | None = None) -> tuple[list[Col
     """One row per candidate with its role, for scripts."""
     from picker.engine.evaluate import OUTCOME, PASS_SWITCH_CHECKS, PASS_SWITCH_FIGURES, SWITCH_CHECKS, SWITCH_FIGURES
 
-    figures = list(dict.fromkeys(PASS_SWITCH_FIGURES + SWITCH_FIGURES))
-    checks = list(dict.fromkeys(PASS_SWITCH_CHECKS + SWITCH_CHECKS))
+    figures = list(dict.fromkeys(PASS_SWITCH_FIGURES + SWITCH_FIGURES
+                                 + tuple(f for r in design.roles for f in r.figures)))
+    checks = list(dict.fromkeys(PASS_SWITCH_CHECKS + SWITCH_CHECKS
+                                + tuple(c for r in design.roles for c in r.checks)))
     columns = ([Column("role"), Column("use"), Column("rank", numeric=True), Column("part"),
                 Column("maker"), Column("package"), Column("feasible"),
                 Column("unit_price", numeric=True), Column("cost", numeric=True)]
