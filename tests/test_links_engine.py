@@ -247,3 +247,33 @@ def test_choose_shows_the_circuit_and_its_json(tmp_path):
     assert {"latch_off", "pair"} <= set(latch["candidates"][0]["checks"])
     assert switch["candidates"][0]["figures"]["gate_pullup_ohm"] == 330e3
     assert latch["candidates"][0]["figures"]["base_resistor_ohm"] == 180e3
+
+
+def test_curve_draws_the_latch_margins_and_lineup_tries_the_circuit_as_built(tmp_path):
+    """`picker curve --chart latch`: the chosen pair's margins against the cell's voltage
+    (the resistors as chosen). Its lowest supply, like lineup's and the report's, is the
+    circuit's as built: below 2.825 V the driver's base (its resistors fixed) no longer
+    gives Ic/Ib <= 10, so its Vce(sat) is not guaranteed and the gate is not driven on.
+    Worked: Ib = (V - 0.06 - 0.84) / 189k - 0.84 / 95k must reach 13.397 uA / 10, so
+    V = 0.90 + 189k x (1.3397 + 8.8421) uA = 2.8244 V, shown rounded up to 2.825 V."""
+    import json
+
+    from conftest import invoke
+
+    csv, toml = tmp_path / "hand.csv", tmp_path / "hand.toml"
+    csv.write_text(HAND_CSV, encoding="utf-8")
+    toml.write_text(LATCH, encoding="utf-8")
+    result = invoke("curve", "--requirements", str(toml), "--role", "pass", "--chart", "latch",
+                    "--catalog", str(csv), "--format", "json")
+    assert result.exit_code == 0, result.output
+    doc = json.loads(result.stdout)
+    (chart,) = [c for c in doc["charts"] if c["chart"] == "latch"]
+    labels = [s["label"] for s in chart["series"]]
+    assert labels[:4] == ["Q1 drop", "Q1 gate drive", "Q2 saturation", "Q2 forced gain ≤ 10"]
+    low = doc["lowest_supply"]["HP-1"]
+    assert (low["status"], low["limit"], low["corner"]) == ("found", "gate_drive", "cold")
+    assert low["V"] == pytest.approx(0.90 + 189e3 * (4.2 / 313.5e3 / 10 + 0.84 / 95e3), abs=2e-5)
+    text = invoke("lineup", "HP-1", "--requirements", str(toml), "--role", "pass", "--catalog", str(csv))
+    assert text.exit_code == 0 and "HP-1: meets 60 mV down to 2.825 V at -20 °C" in text.output
+    not_linked = invoke("curve", "--requirements", str(toml.with_name("x.toml")), "--catalog", str(csv))
+    assert not_linked.exit_code == 2

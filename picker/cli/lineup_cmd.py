@@ -65,6 +65,7 @@ class ChartChoice(str, Enum):
     both = "both"
     supply = "supply"
     fit = "fit"
+    latch = "latch"
 
 
 @app.command("curve")
@@ -78,7 +79,8 @@ def curve(
     chart: Annotated[ChartChoice, typer.Option(
         "--chart", help="supply: drop (or base overdrive) against the cell's voltage; fit: "
                         "on-resistance against gate drive (or gain against Ic) through the "
-                        "datasheet points; both.")] = ChartChoice.both,
+                        "datasheet points; latch: a linked pair's margins against the cell's "
+                        "voltage; both (with latch for a linked role).")] = ChartChoice.both,
     png: Annotated[Optional[str], typer.Option(
         "--png", metavar="FILE", help="Write the charts as a PNG (needs picker[plot]).")] = None,
     svg: Annotated[Optional[str], typer.Option(
@@ -144,6 +146,8 @@ def curve(
         if chart in (ChartChoice.both, ChartChoice.fit):
             charts.append(plot.fit_chart(chosen_parts, chosen, req))
         advance()
+        if chart in (ChartChoice.both, ChartChoice.latch):
+            charts += _latch_charts(catalog.df, req, chosen, strict=chart is ChartChoice.latch)
     sentences = [f"{name}: {headroom.describe(row, chosen, req)}"
                  for name, (_, row) in zip(chosen_parts["part"], lowest.iterrows())]
 
@@ -172,6 +176,25 @@ def curve(
                Column("x", numeric=True), Column("y", numeric=True), Column("x_label"),
                Column("y_label")]
     emit(Report([], data=doc, csv_columns=columns, csv_rows=plot.csv_rows(charts)), fmt)
+
+
+def _latch_charts(catalog_df, req, role, *, strict: bool) -> list:
+    """The linked pairs' margins for a role in a link (models/README.md §10)."""
+    from picker.engine.evaluate import evaluate
+    from picker.errors import UsageError
+    from picker.present import links_view
+
+    if not req.in_link(role):
+        if strict:
+            raise UsageError(f"--chart latch: role '{role.name}' is not linked (no gate_driver "
+                             "or base_from)")
+        return []
+    design = evaluate(catalog_df, req)
+    charts = [links_view.latch_chart(catalog_df, design, lr) for lr in design.links
+              if role in (lr.link.switch, lr.link.partner) and lr.chosen]
+    if strict and not charts:
+        raise UsageError(f"--chart latch: the link of '{role.name}' has no feasible pair to draw")
+    return charts
 
 
 def _exists(path: str) -> bool:

@@ -59,6 +59,8 @@ def in_force(obj, key: str) -> str:
     value = getattr(obj, field, None)
     if value is None:
         return "supply" if rule == "drive" else UNSET.get(key, "not set")
+    if isinstance(value, str):  # "auto" (models/README.md §10)
+        return value
     return f"{value:g}" if unit == "1" else format_quantity(value, unit, 4)
 
 

@@ -110,8 +110,30 @@ def _trial(data, role: Role, req: Requirements, supply_V, ambient_C: float, *,
     trial = dataclasses.replace(
         req, supply=dataclasses.replace(req.supply, min_V=supply_V),
         ambient=Ambient(ambient_C, ambient_C))
+    if req.in_link(role) or "auto" in (role.base_resistor_ohm, role.base_pulldown_ohm):
+        return _linked_trial(data, role, req, trial, everything)
     evaluate = engine.pass_switch_columns if role.is_pass_switch else engine.saturated_switch_columns
     return evaluate(data, role, trial, on_state_only=not everything)
+
+
+def _linked_trial(data, role: Role, req: Requirements, trial: Requirements, everything: bool) -> dict:
+    """A linked role (models/README.md §10) tried with the circuit as chosen: the other
+    role's part and the resistors fixed, the cell at the trial voltage. A role of
+    its own with an "auto" resistor keeps the value chosen at the real supply."""
+    from picker.engine import linked
+
+    if req.in_link(role):
+        out = linked.trial(data, role, req, trial, on_state_only=not everything)
+        if out is None:
+            from picker.errors import UsageError
+
+            raise UsageError(f"role '{role.name}' is linked: evaluate its design first")
+        return out
+    from picker.engine.links import auto_base_columns
+
+    chosen = auto_base_columns(data, role, req, catalogue=False)["base_resistor_ohm"]
+    return auto_base_columns(data, role, trial, catalogue=everything, on_state_only=not everything,
+                             base_resistor_ohm=chosen)
 
 
 def verdict(table: pd.DataFrame, role: Role) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -289,6 +311,8 @@ def _requirement(role: Role) -> str:
 
     if role.is_pass_switch:
         return f"{q(role.max_drop_V, 'V')}"
+    if role.collector_current_A is None:  # a gate driver: its current is the pull-up's (§10)
+        return f"Ib·hFE ≥ {role.overdrive:g} × the pull-up's current"
     return f"Ib·hFE ≥ {role.overdrive:g} × {q(role.collector_current_A, 'A')}"
 
 

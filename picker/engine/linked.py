@@ -28,7 +28,8 @@ SWITCH_LINK_FIGURES = ("gate_pullup_ohm", "gate_leak_V", "t_off_s")
 PARTNER_LINK_FIGURES = ("base_resistor_ohm", "base_pulldown_ohm", "latch_base_V")
 # the other role's figures a row keeps, for the `pair` reason
 OTHER = {"switch": ("vgs_V", "gate_leak_V", "gate_pullup_ohm", "off_current_A", "drop_V"),
-         "partner": ("collector_current_A", "vce_sat_V", "latch_base_V", "ib_A")}
+         "partner": ("collector_current_A", "vce_sat_V", "latch_base_V", "ib_A", "base_resistor_ohm",
+                     "base_pulldown_ohm")}
 
 
 @dataclass
@@ -266,6 +267,54 @@ def _summarise(result: LinkResult, model: PairModel) -> None:
     result.pair_only = pair_only
 
 
+# The last few designs' linked tables by their requirements, so that a role's
+# parts can be tried at another supply with the circuit as chosen (`trial`).
+_CONTEXT: dict = {}
+_CONTEXT_SIZE = 8
+
+
+def trial(parts: PartData, role: Role, req: Requirements, trial_req: Requirements, *,
+          on_state_only: bool = True) -> dict | None:
+    """A linked role's columns for `parts` (rows of the catalogue its design was
+    evaluated over) under `trial_req` (another supply or ambient), each part with
+    the other role's choice and with the resistors chosen for it at `req`: the
+    circuit as built, tried at another cell voltage (engine.headroom). None when
+    the design has not been evaluated (engine.evaluate)."""
+    context = _CONTEXT.get(req)
+    if context is None:
+        return None
+    catalog_df, tables = context
+    table = tables.get(role.name)
+    if table is None:
+        return None
+    link = table.link
+    # by part number (unique in a catalogue): callers may hand over rows re-indexed
+    names = pd.Index(table.frame["part"].astype(str))
+    pos = names.get_indexer(pd.Index(np.asarray(parts.identity()["part"], dtype=str)))
+    if (pos < 0).any():
+        return None
+    other = tables[(link.partner if table.side == "switch" else link.switch).name]
+    other_ref = other.chosen_row if other.chosen_row is not None else int(
+        np.flatnonzero(other.frame["part"].to_numpy() == table.partner_part)[0])
+    P, S = _kind_rows(catalog_df, link.partner), _kind_rows(catalog_df, link.switch)
+    model = PairModel(link, trial_req, P, S)
+    n = len(pos)
+    p, s = ((np.full(n, other_ref), pos) if table.side == "switch" else (pos, np.full(n, other_ref)))
+    def column(frame, name, rows):
+        return frame[name].to_numpy(dtype=float)[rows] if name in frame else np.full(n, np.nan)
+    # each row's own resistors, and the other role's as they were chosen with that row
+    if table.side == "switch":
+        fixed = {"gate_pullup_ohm": column(table.frame, "gate_pullup_ohm", pos),
+                 "base_resistor_ohm": column(table.frame, "other_base_resistor_ohm", pos),
+                 "base_pulldown_ohm": column(table.frame, "other_base_pulldown_ohm", pos)}
+    else:
+        fixed = {"gate_pullup_ohm": column(table.frame, "other_gate_pullup_ohm", pos),
+                 "base_resistor_ohm": column(table.frame, "base_resistor_ohm", pos),
+                 "base_pulldown_ohm": column(table.frame, "base_pulldown_ohm", pos)}
+    out = model.evaluate(p, s, full=True, fixed=fixed)
+    return out[table.side]
+
+
 def evaluate_links(catalog_df: pd.DataFrame, req: Requirements) -> tuple[dict, list[LinkResult]]:
     """Every link of the requirements: {role name: its LinkedRoleResult} and the
     LinkResults in file order. A switch in a second link (a further role fed from
@@ -274,6 +323,9 @@ def evaluate_links(catalog_df: pd.DataFrame, req: Requirements) -> tuple[dict, l
 
     tables: dict = {}
     results: list[LinkResult] = []
+    _CONTEXT[req] = (catalog_df, tables)
+    while len(_CONTEXT) > _CONTEXT_SIZE:
+        _CONTEXT.pop(next(iter(_CONTEXT)))
     for link in links_of(req):
         earlier = tables.get(link.switch.name)
         fixed = None if earlier is None else earlier.chosen_row

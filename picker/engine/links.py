@@ -144,11 +144,15 @@ class PairModel:
 
     # -- a batch of pairs -----------------------------------------------------------------
 
-    def evaluate(self, p: np.ndarray, s: np.ndarray, *, full: bool = False) -> dict:
+    def evaluate(self, p: np.ndarray, s: np.ndarray, *, full: bool = False,
+                 fixed: dict | None = None) -> dict:
         """Both roles' columns for the pairs (partner part p[k], switch part s[k]):
         `switch` and `partner` (dicts of per-pair arrays, as the role families give
         them, with the link's figures and checks added), `switch_ok`,
-        `partner_ok` (every check of that role passes) and `feasible`."""
+        `partner_ok` (every check of that role passes) and `feasible`. `fixed`
+        holds resistor values per pair (`gate_pullup_ohm`, `base_resistor_ohm`,
+        `base_pulldown_ohm`; NaN: none fitted) to use instead of choosing them:
+        the circuit as chosen, tried at another supply (engine.headroom)."""
         link, req, series = self.link, self.req, self.series
         sw, pr = link.switch, link.partner
         n = len(p)
@@ -160,7 +164,9 @@ class PairModel:
         pr_cols: dict = {}
 
         if link.drives_gate:  # 1. the pull-up
-            if sw.gate_pullup_ohm == AUTO:
+            if fixed is not None:
+                r_pu = np.asarray(fixed["gate_pullup_ohm"], dtype=float)
+            elif sw.gate_pullup_ohm == AUTO:
                 idss_hot = self.idss_hot_A[s]
 
                 def passes(r_max):
@@ -213,7 +219,9 @@ class PairModel:
         # 2-3. the pull-down, against the switch's leakage with the base resistor at zero
         rpd = pr.base_pulldown_ohm
         rpd_tol = series.tol(rpd)
-        if rpd == AUTO:
+        if fixed is not None and rpd is not None:
+            rpd_ohm = np.asarray(fixed["base_pulldown_ohm"], dtype=float)
+        elif rpd == AUTO:
             icbo = self.partner_icbo_hot_A[p]
             rpd_ohm = series.choose(lambda r_max: self.latch_base_V(sw_off_A, np.zeros(n), r_max, icbo)
                                     <= LATCH_BASE_LIMIT_V, n)
@@ -223,7 +231,9 @@ class PairModel:
         # 4. the base resistor
         rb = pr.base_resistor_ohm
         rb_tol = series.tol(rb)
-        if rb == AUTO:
+        if fixed is not None:
+            rb_ohm = np.asarray(fixed["base_resistor_ohm"], dtype=float)
+        elif rb == AUTO:
             # (where no pull-down fits, latch_off fails and the base is evaluated without one)
             rpd_min = None if rpd_ohm is None else np.nan_to_num(rpd_ohm, nan=np.inf) * (1 - rpd_tol)
             rb_ohm = choose_base_resistor(P, pr, req, series, ic_A, self.drive_V, rpd_min,
@@ -322,9 +332,11 @@ def choose_base_resistor(parts: PartData, role: Role, req: Requirements, series:
 
 
 def auto_base_columns(parts, role: Role, req: Requirements, *, catalogue: bool = True,
-                      on_state_only: bool = False) -> dict:
+                      on_state_only: bool = False, base_resistor_ohm=None) -> dict:
     """A switch of its own (no link) with `base_resistor = "auto"`: the resistor
-    chosen per part as `choose_base_resistor`, then the family's columns with it."""
+    chosen per part as `choose_base_resistor` (or, given `base_resistor_ohm`, those
+    values: the circuit as chosen, tried at another supply), then the family's
+    columns with it."""
     from picker.engine.parts import _data
 
     parts = _data(parts)
@@ -334,8 +346,9 @@ def auto_base_columns(parts, role: Role, req: Requirements, *, catalogue: bool =
     rpd = role.base_pulldown_ohm
     rpd_tol = series.tol(rpd)
     rpd_min = None if rpd is None else np.full(n, float(rpd) * (1 - rpd_tol))
-    rb_ohm = choose_base_resistor(parts, role, req, series, role.collector_current_A, drive, rpd_min,
-                                  forced=False)
+    rb_ohm = (choose_base_resistor(parts, role, req, series, role.collector_current_A, drive, rpd_min,
+                                   forced=False) if base_resistor_ohm is None
+              else np.asarray(base_resistor_ohm, dtype=float))
     no_rb = np.isnan(rb_ohm)
     ends = {"rb_max": np.where(no_rb, np.inf, rb_ohm) * (1 + series.auto_tol),
             "rpd_min": rpd_min, "rpd_max": None if rpd is None else np.full(n, float(rpd) * (1 + rpd_tol))}

@@ -44,8 +44,10 @@ def _role_heading(r: RoleResult, req) -> str:
                 f"gate drive {drive} − {_v(role.gate_drive_drop_V, 'V')}")
     else:
         drive = "supply" if role.base_drive_V is None else _v(role.base_drive_V, "V")
+        rb = ("a chosen base resistor" if role.base_resistor_ohm == "auto"  # models/README.md §10
+              else _v(role.base_resistor_ohm, 'ohm'))
         what = (f"Ic {_v(role.collector_current_A, 'A')}, base {drive} through "
-                f"{_v(role.base_resistor_ohm, 'ohm')}, overdrive {role.overdrive:g}")
+                f"{rb}, overdrive {role.overdrive:g}")
     return (f"{role.name} ({role.use}, {refs}): {what}; "
             f"{quantity:,} parts for {req.volume:,} boards")
 

@@ -147,3 +147,59 @@ def circuit_sections(design, reasons) -> list[Section]:
                                [Column("role"), Column("part"), Column("cost", "cost/board", numeric=True),
                                 Column("why")], near))
     return out
+
+
+def latch_chart(catalog_df, design, link_result, points: int = 81):
+    """The linked pair's margins across the cell's range (models/README.md §10): the
+    chosen pair, as built (resistors fixed), at each supply from below the empty
+    cell to above the full one, each margin as a share of its limit (positive:
+    the check passes), the worse of the two corners: the switch's drop and gate
+    drive, the driver's saturation and (for a gate driver) its forced gain, and
+    the off-state margins, which the cell's voltage does not move."""
+    import numpy as np
+
+    from picker.engine import headroom
+    from picker.present import plot
+
+    req = design.requirements
+    lr = link_result
+    link = lr.link
+    sw_row = lr.switch.frame.iloc[lr.switch.chosen_row]
+    pr_row = lr.partner.frame.iloc[lr.partner.chosen_row]
+    grid = plot.supply_grid(req, None, points)
+    sw_parts = catalog_df.loc[[sw_row.name]]
+    pr_parts = catalog_df.loc[[pr_row.name]]
+    lines: dict[str, np.ndarray] = {}
+
+    def worst(name, values):
+        lines[name] = np.fmin(lines.get(name, np.inf), values)
+    for corner in headroom.CORNERS:
+        t_C = headroom.corner_temperature(req, corner)
+        sw = headroom.at_supply(sw_parts.iloc[np.zeros(len(grid), int)].reset_index(drop=True),
+                                link.switch, req, grid, t_C)
+        pr = headroom.at_supply(pr_parts.iloc[np.zeros(len(grid), int)].reset_index(drop=True),
+                                link.partner, req, grid, t_C)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            worst(f"{refs(link.switch)} drop", 1 - sw["drop_V"].to_numpy(float) / link.switch.max_drop_V)
+            need = sw["vgs_V"].to_numpy(float) - sw["gate_margin_V"].to_numpy(float)
+            worst(f"{refs(link.switch)} gate drive", sw["gate_margin_V"].to_numpy(float) / need)
+            worst(f"{refs(link.partner)} saturation", pr["overdrive"].to_numpy(float) / link.partner.overdrive - 1)
+            if link.drives_gate:
+                worst(f"{refs(link.partner)} forced gain ≤ 10", 1 - pr["forced_gain"].to_numpy(float) / 10.0)
+    if link.drives_gate:
+        limit = float(sw_row["vt_min_hot_V"]) - 0.1
+        lines[f"{refs(link.switch)} held off (flat)"] = np.full(len(grid), float(sw_row["held_off_margin_V"]) / limit)
+    if link.fed:
+        lines[f"{refs(link.partner)} base while off (flat)"] = np.full(len(grid), 1 - float(pr_row["latch_base_V"]) / 0.15)
+    # shown between -100 % and +150 %: far past either, the line says no more
+    series = [plot.Series(name, grid.copy(), np.clip(100.0 * np.where(np.isfinite(y), y, np.nan),
+                                                     -100.0, 150.0), i, "fit", name)
+              for i, (name, y) in enumerate(lines.items())]
+    chart = plot.Chart("latch", f"{link.switch.name} and {link.partner.name}: "
+                       f"{sw_row['part']} with {pr_row['part']}, margins against the cell's voltage",
+                       "supply (V)", "margin (% of the limit)", series, hlines=[(0.0, "limit")],
+                       vlines=[(req.supply.min_V, f"cell empty {req.supply.min_V:g} V"),
+                               (req.supply.max_V, f"cell full {req.supply.max_V:g} V")])
+    chart.notes.append("the resistors as chosen at the empty cell; each line the worse corner, "
+                       "drawn from -100 % to +150 %; a gap: the figure is unknown there")
+    return chart

@@ -110,7 +110,8 @@ def supply_chart(parts: pd.DataFrame, role: Role, req: Requirements,
     else:
         figure, scale, y_label = "overdrive", 1.0, "Ib·hFE / Ic (ratio)"
         limit = (role.overdrive, f"needed {role.overdrive:g}")
-        what = f"base overdrive at Ic {format_quantity(role.collector_current_A, 'A')}"
+        what = ("base overdrive at the pull-up's current" if role.collector_current_A is None  # §10
+                else f"base overdrive at Ic {format_quantity(role.collector_current_A, 'A')}")
     series = []
     for corner in headroom.CORNERS:
         table = sweep(parts, role, req, grid, corner)
@@ -216,8 +217,10 @@ def _gain_chart(parts, role, req, points) -> Chart:
     currents_mA, hfe = point_family(parts, "hfe_min")
     cur = np.broadcast_to(currents_mA, hfe.shape)
     used = np.isfinite(hfe) & np.isfinite(cur)
-    ic_mA = role.collector_current_A * 1000.0
     known = cur[used]
+    # a gate driver's current is its pull-up's (models/README.md §10): no line for it
+    ic_mA = (role.collector_current_A * 1000.0 if role.collector_current_A is not None
+             else float(np.sqrt(known.min() * known.max())) if known.size else 1.0)
     lo = min(float(known.min()) if known.size else ic_mA, ic_mA) / 3.0
     hi = max(float(known.max()) if known.size else ic_mA, ic_mA) * 3.0
     grid_mA = np.geomspace(lo, hi, points)
@@ -232,7 +235,8 @@ def _gain_chart(parts, role, req, points) -> Chart:
                              i, "points", name))
     chart = Chart("fit", f"{role.name}: minimum gain against collector current at 25 °C",
                   "collector current (mA)", "hFE min (ratio)", series,
-                  vlines=[(ic_mA, f"Ic {ic_mA:g} mA")], x_scale=1000.0, log_x=True)
+                  vlines=[(ic_mA, f"Ic {ic_mA:g} mA")] if role.collector_current_A is not None else [],
+                  x_scale=1000.0, log_x=True)
     chart.notes.append("past the end points the gain continues along an end segment that "
                        "falls toward that end, and is held where it does not; under a tenth of "
                        "the lowest point's current it is far below data (models/README.md §6)")
