@@ -50,7 +50,8 @@ written = nasty_cell.map(lambda t: t.replace("\x00", ""))
 filled = written.filter(lambda t: t.strip())
 changes = st.dictionaries(st.integers(0, 12), st.builds(
     Change, part=st.none() | filled, maker=st.none() | written,
-    price=st.floats(allow_nan=True, allow_infinity=True) | st.floats(0, 10), note=filled),
+    price=st.floats(allow_nan=True, allow_infinity=True) | st.floats(0, 10), note=filled,
+    description=st.none() | written),
     max_size=4)
 
 

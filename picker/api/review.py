@@ -99,15 +99,25 @@ class Review:
         return self._rv.found_anything
 
     def revised_bom(self) -> bytes:
-        """The BOM's bytes with the proposals applied and a `picker_change`
-        column; every other line and column as it was."""
-        from picker.review.revised import revised_bom
+        """The BOM's bytes with the proposals applied (a replaced line describes
+        its new part; lines one part now serves merged into one) and a
+        `picker_change` column; every other line and column as it was. Read
+        back before it is returned: BomError if it does not account for every
+        reference designator and quantity (as `picker review --write-bom`)."""
+        from picker.errors import BomError
+        from picker.review.revised import check_revised, revised_bom
 
-        return revised_bom(self._rv.bom, self._rv.changes())
+        changes = self._rv.changes()
+        data = revised_bom(self._rv.bom, changes)
+        problems = check_revised(self._rv.bom, data, changes)
+        if problems:
+            raise BomError(f"the revised BOM did not read back as planned: {problems[0]}")
+        return data
 
     def changed_lines(self) -> int:
-        """How many lines `revised_bom()` changes."""
-        return len(self._rv.changes())
+        """How many lines of `revised_bom()` are changed (lines merged into
+        another are not counted: the line they joined is)."""
+        return sum(not c.drop for c in self._rv.changes().values())
 
     def __repr__(self) -> str:
         t = self.totals

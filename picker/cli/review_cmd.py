@@ -54,8 +54,10 @@ def review(
         "--all-lines", help="Show every BOM line in the table, not only the transistors.")] = False,
     write_bom: Annotated[Optional[str], typer.Option(
         "--write-bom", metavar="OUT.csv",
-        help="Write a revised copy of the BOM with the proposals applied and a picker_change "
-             "column; every original line and column is kept.")] = None,
+        help="Write a revised copy of the BOM with the proposals applied: a replaced line "
+             "describes its new part, lines one part now serves are merged into one (refs and "
+             "quantities combined), and a picker_change column says what each changed line "
+             "was. Every other line and column is kept.")] = None,
     force: Annotated[bool, typer.Option(
         "--force", help="Let --write-bom replace an existing file (its old version is kept as .bak).")] = False,
 ) -> None:
@@ -67,7 +69,7 @@ def review(
     2 on bad input.
     """
     from picker.review.bom import read_bom
-    from picker.review.revised import revised_bom
+    from picker.review.revised import check_revised, revised_bom
     from picker.errors import BomError, WriteRefused
     from picker.present.render import Report
     from picker.design.requirements import load_requirements
@@ -100,14 +102,22 @@ def review(
     rv = run_review(bom, catalog.df, options, req, volume_source=source)
     if out_path is not None:
         changes = rv.changes()
+        revised = revised_bom(bom, changes)
+        problems = check_revised(bom, revised, changes)
+        if problems:  # never hand a purchaser a BOM that lost something
+            raise BomError(f"the revised BOM did not read back as planned: {problems[0]} "
+                           f"({len(problems)} problem(s)); nothing written", file=str(out_path))
         try:
-            write_atomic(out_path, revised_bom(bom, changes), overwrite=force)
+            write_atomic(out_path, revised, overwrite=force)
         except OSError as exc:
             if isinstance(exc, WriteRefused):
                 raise
             raise WriteRefused(f"cannot write the revised BOM: {exc.strerror or exc}",
                                file=str(out_path)) from None
-        say(f"wrote {out_path}: {len(changes)} line(s) changed, every other line as it was")
+        merged = sum(c.drop for c in changes.values())
+        say(f"wrote {out_path}: {len(changes) - merged} line(s) changed"
+            + (f", {merged} merged into another line (its change column says what each was)"
+               if merged else "") + ", every other line as it was")
     if fmt is not Fmt.table:
         for w in rv.warnings:
             say(str(w))

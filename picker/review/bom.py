@@ -99,6 +99,11 @@ class Bom:
         pos = self.columns.get(name)
         return None if pos is None else self.header[pos]
 
+    def cells_of(self, line: BomLine, name: str) -> str:
+        """The cell of field `name` on `line` as read ('' without such a column)."""
+        pos = self.columns.get(name)
+        return line.cells[pos] if pos is not None and pos < len(line.cells) else ""
+
 
 # -- the header ----------------------------------------------------------------------
 

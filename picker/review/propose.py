@@ -130,6 +130,7 @@ class Review:
     requirements: object = None
     kinds: dict[str, KindParts] = field(default_factory=dict)
     alternatives: list[Group] = field(default_factory=list)
+    catalog: pd.DataFrame | None = None  # the catalogue reviewed against (unique index)
 
     def final(self) -> dict[int, tuple[str, str, str, float]]:
         """row -> (part, maker, package, unit price) after line proposals and consolidation."""
@@ -164,32 +165,11 @@ class Review:
         return bool(self.findings or self.groups or any(r.status in ("proposal", "fix") for r in self.lines))
 
     def changes(self) -> dict[int, Change]:
-        """row -> the change for a revised BOM: a new part, or (consolidation) the
-        same part bought together with other lines at a new price."""
-        final = self.final()
-        by_row = {r.line.row: r for r in self.lines}
-        grouped = {row: g for g in self.groups for row in g.rows}
-        out = {}
-        for row, (part, maker, _, unit) in final.items():
-            r = by_row[row]
-            same = normalise_part(part) == normalise_part(r.part)
-            if same and row not in grouped:
-                continue
-            if row in grouped:
-                g = grouped[row]
-                refs = [ref for x in g.rows for ref in by_row[x].line.refs]
-                why = (f"one part for {', '.join(refs)} ({len(g.rows)} lines into 1, "
-                       f"{g.units * self.options.volume:,} a build)")
-            elif r.status == "fix":
-                why = f"replaces it: {r.note}"
-            else:
-                why = "drop-in" if not r.roles else f"feasible for {', '.join(r.roles)}"
-            head = f"kept {part}" if same else f"was {r.line.part}; {part}"
-            note = f"{head}: {why}; {unit:.4g} each vs {r.unit_now:.4g}"
-            if r.match is not None and r.match.status == "confirm":
-                note += f"; CONFIRM that {r.line.part} is {r.part}"
-            out[row] = Change(None if same else part, None if same else maker, unit, note)
-        return out
+        """row -> the change for a revised BOM (`picker.review.changes.revision`):
+        a replaced part, described anew; lines one part now serves merged."""
+        from picker.review.changes import revision
+
+        return revision(self)
 
 
 def review(bom: Bom, catalog_df: pd.DataFrame, options: Options, requirements=None,
@@ -260,7 +240,8 @@ def review(bom: Bom, catalog_df: pd.DataFrame, options: Options, requirements=No
         if r.category != "transistor" or r._kind_pos < 0:
             continue
         _propose(r, kinds[r.kind], options, groups_of, role_masks.get(r.line.row))
-    review_ = Review(bom, options, results, [], findings, warnings, volume_source, requirements, kinds)
+    review_ = Review(bom, options, results, [], findings, warnings, volume_source, requirements, kinds,
+                     catalog=df)
     review_.groups, review_.alternatives = consolidate(results, kinds, options.volume)
     review_.findings.sort(key=lambda f: (f["type"] != "role", f["line"]))
     return review_

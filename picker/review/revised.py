@@ -1,5 +1,9 @@
-"""The revised BOM: a copy with some lines' part number, maker and price
-replaced and one column added, keeping the bytes of everything else."""
+"""The revised BOM: a copy with some lines' cells replaced (part number,
+maker, price, description; refs and quantity where lines are merged), lines
+merged into another left out, and one column added saying what changed,
+keeping the bytes of everything else. `picker.review.changes` decides the
+changes; `check_revised` reads the copy back and accounts for every
+reference designator and quantity."""
 
 from __future__ import annotations
 
@@ -13,12 +17,23 @@ from picker.review.bom import Bom, _physical_lines
 
 @dataclass(frozen=True)
 class Change:
-    """What replaces the part of one BOM row in the revised copy."""
+    """What changes on one BOM row in the revised copy (None: leave the cell)."""
 
-    part: str | None  # None: leave the cell as it is
+    part: str | None
     maker: str | None
     price: float  # unit price to write in the price column (NaN: leave it)
     note: str  # the text of the change column
+    description: str | None = None
+    refs: str | None = None  # a merged line's reference designators
+    qty: str | None = None  # ... and its quantity
+    drop: bool = False  # merged into another line: left out of the copy
+    into: int | None = None  # ... the data row of that line
+
+    def cells(self, decimal_comma: bool) -> tuple[tuple[str, str | None], ...]:
+        """(field, new text) for each cell this change may write."""
+        return (("part", self.part), ("maker", self.maker),
+                ("price", _price_text(self.price, decimal_comma)),
+                ("description", self.description), ("refs", self.refs), ("qty", self.qty))
 
 
 CHANGE_COLUMN = "picker_change"
@@ -55,10 +70,11 @@ def revised_bom(bom: Bom, changes: dict[int, Change], *, note_for: dict[int, str
         else:
             row = row_at_line.get(start_line)
             change = changes.get(row)
+            if change is not None and change.drop:
+                continue  # merged into another line, which says so
             if change is not None:
                 fields = list(fields)
-                for col, value in (("part", change.part), ("maker", change.maker),
-                                   ("price", _price_text(change.price, bom.decimal_comma))):
+                for col, value in change.cells(bom.decimal_comma):
                     pos = bom.columns.get(col)
                     if pos is not None and value is not None and pos < len(fields):
                         fields[pos] = _cell(value, bom.delimiter)
@@ -76,9 +92,10 @@ def _expected_cells(bom: Bom, changes: dict[int, Change], note_for: dict[int, st
     for ln in bom.lines:
         cells = list(ln.cells)
         change = changes.get(ln.row)
+        if change is not None and change.drop:
+            continue
         if change is not None:
-            for col, value in (("part", change.part), ("maker", change.maker),
-                               ("price", _price_text(change.price, bom.decimal_comma))):
+            for col, value in change.cells(bom.decimal_comma):
                 if bom.columns.get(col) is not None and value is not None:
                     cells[bom.columns[col]] = _neutral(value)
         yield cells, (change.note if change is not None else note_for.get(ln.row, ""))
@@ -102,9 +119,10 @@ def _faithful(bom: Bom, data: bytes, changes: dict[int, Change], name: str) -> b
     if again.header[:width] != bom.header or again.header[width:width + 1] != [name]:
         return False
     rows = list(zip(*again.columns))
-    if len(rows) != len(bom.lines):
+    expected = list(_expected_cells(bom, changes, {}))
+    if len(rows) != len(expected):
         return False
-    for (cells, note), got in zip(_expected_cells(bom, changes, {}), rows):
+    for (cells, note), got in zip(expected, rows):
         if list(got[:width]) != cells or (note and got[width] != _neutral(note)):
             return False
     return True
@@ -131,10 +149,12 @@ def _rewritten(bom: Bom, changes: dict[int, Change], name: str, note_for: dict[i
         records = []
     width = len(bom.header)
     expected = list(_expected_cells(bom, changes, note_for))
-    if len(records) != len(expected) + 1:  # not the rows read: write the cells as read
-        records = [list(bom.header)] + [cells for cells, _ in expected]
+    kept_rows = [ln.row for ln in bom.lines if not (ln.row in changes and changes[ln.row].drop)]
+    if len(records) != len(bom.lines) + 1:  # not the rows read: write the cells as read
+        records = [list(bom.header)] + [list(ln.cells) for ln in bom.lines]
+    raw_of = dict(zip((ln.row for ln in bom.lines), records[1:]))
     rows = [list(records[0][:width]) + [name]]
-    for (cells, note), raw in zip(expected, records[1:]):
+    for (cells, note), raw in zip(expected, (raw_of[row] for row in kept_rows)):
         raw = list(raw) + [""] * (width - len(raw))
         kept = [raw[i] if raw[i].strip() == cells[i] else cells[i] for i in range(width)]
         rows.append(kept + [_neutral(note)] + raw[width:])
@@ -142,6 +162,65 @@ def _rewritten(bom: Bom, changes: dict[int, Change], name: str, note_for: dict[i
     out = preamble + "".join(bom.delimiter.join(_quoted(c, bom.delimiter) for c in row) + ending
                              for row in rows)
     return out.encode(bom.encoding, errors="replace")
+
+
+def check_revised(bom: Bom, data: bytes, changes: dict[int, Change]) -> list[str]:
+    """Read the revised copy back with the same reader (`read_bom`, from the
+    header line, each field at the column the original was read from) and
+    account for everything: the same reference designators, each on one line
+    with the part it is meant to have; the same total quantity; every line
+    changed marked in the change column, every other line's cells as they
+    were. Returns what does not hold ([] when all does)."""
+    from collections import Counter
+
+    from picker.review.bom import read_bom
+
+    try:
+        text = decode(data, bom.path, BomError)[0]
+        rest = "".join(_physical_lines(text)[bom.header_line - 1:]).encode("utf-8")
+        again = read_bom(bom.path, data=rest,
+                         columns={f: str(p + 1) for f, p in bom.columns.items()})
+    except BomError as exc:
+        return [f"it does not read as a BOM: {exc.message}"]
+    shift = bom.header_line - 1  # lines above the header, left out of the reading
+    problems = []
+    note_at = len(bom.header)
+    kept = [ln for ln in bom.lines if not (ln.row in changes and changes[ln.row].drop)]
+
+    def final(ln) -> str:
+        change = changes.get(ln.row)
+        if change is not None and change.drop:
+            return final(bom.lines[change.into])
+        return change.part if change is not None and change.part is not None else ln.part
+
+    def counted(lines) -> tuple[Counter, int]:
+        return (Counter(ref.upper() for ln in lines for ref in ln.refs),
+                sum(ln.qty for ln in lines if ln.qty is not None))
+
+    if counted(bom.lines) != counted(again.lines):
+        before, after = counted(bom.lines), counted(again.lines)
+        problems.append(f"refs or quantities differ: {sum(before[0].values())} refs and "
+                        f"{before[1]} parts before, {sum(after[0].values())} and {after[1]} after")
+    if len(again.lines) != len(kept):
+        return problems + [f"{len(again.lines)} lines read back where {len(kept)} were written"]
+    part_of = {ref.upper(): final(ln) for ln in bom.lines for ref in ln.refs}
+    for old, new in zip(kept, again.lines):
+        marked = len(new.cells) > note_at and new.cells[note_at].strip()
+        if old.row in changes and not marked:
+            problems.append(f"line {new.line + shift}: changed but not marked")
+        if old.row not in changes and (new.cells[:note_at] != old.cells[:note_at] or marked):
+            problems.append(f"line {new.line + shift}: not meant to change, but it did")
+        for ref in new.refs:
+            if normalise(part_of.get(ref.upper(), "")) != normalise(new.part):
+                problems.append(f"line {new.line + shift}: {ref} has {new.part}, meant to have "
+                                f"{part_of.get(ref.upper(), 'no line')}")
+    return problems
+
+
+def normalise(part: str) -> str:
+    from picker.catalog.load import normalise_part
+
+    return normalise_part(str(part).lstrip("'"))
 
 
 def _join(fields, delimiter: str) -> str:
