@@ -92,7 +92,8 @@ def _read_with_threshold(data: bytes, fast_bytes: int):
         return str(ours(exc, file=PATH))
     finally:
         tabular.FAST_BYTES = saved
-    return (t.encoding, t.delimiter, t.header, t.header_line, [list(c) for c in t.columns],
+    return (t.encoding, t.delimiter, t.header, t.header_line,
+            [t.cells(i) for i in range(len(t.columns))],
             t.lines, t.problems)
 
 

@@ -155,7 +155,9 @@ def test_the_vectorised_reader_refuses_before_splitting_cells(monkeypatch):
     def never(*args, **kwargs):
         raise AssertionError("cells were split before the row count was checked")
 
-    monkeypatch.setattr(pd, "read_csv", never)
+    import pyarrow.csv
+
+    monkeypatch.setattr(pyarrow.csv, "read_csv", never)
     with pytest.raises(TooLarge):
         tabular.read_table("c.csv", error=CatalogError, what="catalogue", data=_rows(50))
 
@@ -163,6 +165,7 @@ def test_the_vectorised_reader_refuses_before_splitting_cells(monkeypatch):
 def test_the_general_reader_stops_at_the_bound(monkeypatch):
     """It keeps at most MAX_ROWS + 1 rows in memory, then refuses."""
     monkeypatch.setattr(tabular, "MAX_ROWS", 10)
+    monkeypatch.setattr(tabular, "FAST_BYTES", 1 << 62)  # the general reader, whatever the size
     original = tabular.csv.reader
     seen = []
 

@@ -13,6 +13,7 @@ from __future__ import annotations
 import hashlib
 import os
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from importlib import resources
 from pathlib import Path
@@ -20,33 +21,17 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from picker.catalog import columnar
 from picker.catalog import columns as cols
-from picker.errors import CatalogError, QuantityError, one_line
-from picker.catalog.quantities import parse_quantity
-from picker.cells import restore
+from picker.catalog.convert import (NO, TEXT, UNKNOWN_MARKERS, YES, _as_text, _arrow,  # noqa: F401
+                                    _normalise_text, _numbers, _slow_number, _text)
+from picker.catalog.findings import Findings, Problem, ProblemList  # noqa: F401 (Problem: re-exported)
 from picker.catalog.leakage_rules import leakage_rules
 from picker.catalog.tabular import read_bytes, read_table
+from picker.cells import restore
+from picker.errors import CatalogError
 
-UNKNOWN_MARKERS = {"", "-", "–", "—", "?", "n/a", "na", "nan", "none", "unknown", "tbd"}
 KNOWN_HEADERS = set(cols._BY_LOWER) | {"rds_on_mohm", "price"}  # for separator detection
-YES = {"yes", "y", "true", "1", "x"}
-NO = {"no", "n", "false", "0", ""}
-
-
-@dataclass(frozen=True)
-class Problem:
-    """One finding of the catalogue check, located in the file."""
-
-    severity: str  # 'error' or 'warning'
-    file: str
-    line: int | None
-    column: int | None
-    message: str
-    column_name: str | None = None
-
-    def __str__(self) -> str:
-        where = ":".join(str(p) for p in (self.file, self.line, self.column) if p is not None)
-        return one_line(f"{where}: {self.severity}: {self.message}")
 
 
 @dataclass
@@ -54,7 +39,7 @@ class Catalog:
     """A loaded catalogue: good rows, every problem, and where it came from."""
 
     df: pd.DataFrame
-    problems: list[Problem]
+    problems: Sequence[Problem]  # a ProblemList in file order (Problem objects made on first use)
     path: str
     source: str  # how the path was chosen: 'option', 'PICKER_CATALOG', 'bundled demo'
     rows_read: int
@@ -65,10 +50,14 @@ class Catalog:
 
     @property
     def errors(self) -> list[Problem]:
+        if isinstance(self.problems, ProblemList):
+            return self.problems.of_severity("error")
         return [p for p in self.problems if p.severity == "error"]
 
     @property
     def warnings(self) -> list[Problem]:
+        if isinstance(self.problems, ProblemList):
+            return self.problems.of_severity("warning")
         return [p for p in self.problems if p.severity == "warning"]
 
     def describe(self) -> str:
@@ -113,43 +102,64 @@ def load_catalog(path: str | os.PathLike | None = None, *, source: str | None = 
         path, source = resolve_catalog(path)
     path = str(path)
     stat = None
+    catalog = None
     if data is None:
         try:
             stat = os.stat(path)
         except OSError:
             stat = None
-        data = read_bytes(path, CatalogError, "catalogue")
-    fingerprint = hashlib.sha256(data).hexdigest()
-    catalog = None
-    if cache and stat is not None:
-        from picker.catalog import cache as store
-
-        hit = store.load(path, stat.st_size, stat.st_mtime_ns, fingerprint)
-        if hit is not None:
-            df, meta = hit
-            catalog = Catalog(df, [Problem(**p) for p in meta["problems"]], path, source,
-                              meta["rows_read"], fingerprint, meta["encoding"], meta["delimiter"],
-                              meta["error_lines"])
-    if catalog is None:
-        table = read_table(path, error=CatalogError, what="catalogue", known=KNOWN_HEADERS,
-                           data=data)
-        catalog = _convert(table, apostrophes=_apostrophe_cells(data))
-        catalog.source = source
-        catalog.fingerprint = fingerprint
         if cache and stat is not None:
             from picker.catalog import cache as store
 
-            meta = {"sha256": fingerprint, "rows_read": catalog.rows_read,
+            hit = store.load(path, stat)
+            if hit is not None:
+                df, meta, problems = hit
+                catalog = Catalog(df, problems, path, source, meta["rows_read"],
+                                  meta["sha256"], meta["encoding"], meta["delimiter"],
+                                  meta["error_lines"])
+        if catalog is None:
+            data = read_bytes(path, CatalogError, "catalogue")
+    if catalog is None:
+        hashing = _digest_aside(data)  # on another core while the file is parsed
+        table = read_table(path, error=CatalogError, what="catalogue", known=KNOWN_HEADERS,
+                           data=data)
+        catalog = _convert(table, apostrophes=_apostrophe_cells(data))
+        del table
+        catalog.source = source
+        catalog.fingerprint = hashing()
+        if cache and stat is not None:
+            from picker.catalog import cache as store
+
+            meta = {"sha256": catalog.fingerprint, "rows_read": catalog.rows_read,
                     "encoding": catalog.encoding, "delimiter": catalog.delimiter,
-                    "error_lines": catalog.error_lines,
-                    "problems": [p.__dict__ for p in catalog.problems]}
-            store.store(path, stat.st_size, stat.st_mtime_ns, catalog.df, meta)
+                    "error_lines": catalog.error_lines}
+            store.store(path, stat, catalog.df, meta, catalog.problems)
     if strict and catalog.errors:
-        first = catalog.errors[0]
-        raise CatalogError(f"{first.message} ({len(catalog.errors)} error(s) in all; "
+        errors = catalog.errors
+        first = errors[0]
+        raise CatalogError(f"{first.message} ({len(errors)} error(s) in all; "
                            f"run `picker catalog check {path}`)",
                            file=first.file, line=first.line, column=first.column)
     return catalog
+
+
+def _digest_aside(data: bytes):
+    """The SHA-256 of `data`, computed on a thread (hashlib lets go of the
+    interpreter's lock on large inputs); returns a function that waits for it."""
+    if len(data) < (1 << 22):
+        digest = hashlib.sha256(data).hexdigest()
+        return lambda: digest
+    import threading
+
+    box: list[str] = []
+    worker = threading.Thread(target=lambda: box.append(hashlib.sha256(data).hexdigest()),
+                              daemon=True)
+    worker.start()
+
+    def result() -> str:
+        worker.join()
+        return box[0]
+    return result
 
 
 def _apostrophe_cells(data: bytes) -> bool:
@@ -173,20 +183,20 @@ def _convert(table, apostrophes: bool = True) -> Catalog:
     """`apostrophes`: the file has a "'" somewhere, so text cells may be ones
     picker's CSV output made inert for spreadsheets ("'-5 V"): they are read
     back as they were (`cells.restore`), so a catalogue written by
-    `catalog show --format csv` loads to the same table."""
+    `catalog show --format csv` loads to the same table.
+
+    Column by column: numbers through `columnar.numbers` (plain numbers in
+    one step, the unit parser for the other cells), text as Arrow strings."""
     path = table.path
-    problems: list[Problem] = []
-    bad_rows: set[int] = set()  # positions of rows with errors
     lines = np.asarray(table.lines, dtype=np.int64)
+    findings = Findings(path, lines, table.header_line)
 
-    def error(pos: int | None, col: int | None, message: str, name: str | None = None) -> None:
-        line = int(lines[pos]) if pos is not None else table.header_line
-        problems.append(Problem("error", path, line, col, message, name))
-        if pos is not None:
-            bad_rows.add(pos)
+    def error(pos, col: int | None, message, name: str | None = None) -> None:
+        """One row (a position), every row of an array, or the header (None)."""
+        findings.add("error", pos, col, message, name)
 
-    def warning(pos: int, col: int | None, message: str, name: str | None = None) -> None:
-        problems.append(Problem("warning", path, int(lines[pos]), col, message, name))
+    def warning(pos, col: int | None, message, name: str | None = None) -> None:
+        findings.add("warning", pos, col, message, name)
 
     for line, column, message in table.problems:
         pos = int(np.searchsorted(lines, line))
@@ -195,16 +205,19 @@ def _convert(table, apostrophes: bool = True) -> Catalog:
     # Header: canonical names, duplicates, unusable point conditions.
     names: list[str | None] = []
     seen: dict[str, int] = {}
+    bad_header: set[int] = set()
     for i, raw in enumerate(table.header, start=1):
         try:
             name = cols.canonical(raw) if raw else None
         except cols.HeaderProblem as exc:
             error(None, i, str(exc))
+            bad_header.add(i)
             names.append(None)
             continue
         if name is not None and name in seen:
             error(None, i, f"column '{raw}' repeats column {seen[name]} ({name}); "
                   "remove one of them")
+            bad_header.add(i)
             name = None
         if name is not None:
             seen[name] = i
@@ -216,26 +229,42 @@ def _convert(table, apostrophes: bool = True) -> Catalog:
                                file=path, line=table.header_line)
 
     n = len(table.lines)
-    data: dict[str, object] = {}
+    # Every numeric column is parsed straight into one 2-D block (the
+    # DataFrame's own: no copy to join them); text columns go in beside it.
+    units = {i: cols.spec_of(name)[0] for i, name in enumerate(names, start=1) if name}
+    numeric = [i for i, unit in units.items() if unit is not None]
+    block = np.empty((len(numeric), n))
+    text: list[tuple[int, str, object]] = []  # (position among the kept columns, name, cells)
+    kept: list[str] = []
+    keys: set[str] = set()
     col_of: dict[str, int] = {}
     for i, (raw, name) in enumerate(zip(table.header, names), start=1):
-        cells = table.cells(i - 1)
+        cells = table.columns[i - 1]
         if name is None:
             key = restore(raw) if apostrophes else raw
-            if key and key not in data and not any(p.column == i and p.line == table.header_line
-                                                   for p in problems):
-                data[key] = _text(cells, apostrophes)  # unknown column: kept as text
+            if key and key not in keys and i not in bad_header:
+                keys.add(key)
+                text.append((len(kept), key, _text(cells, apostrophes)))  # unknown: kept as text
+                kept.append(key)
             continue
+        keys.add(name)
         col_of[name] = i
-        unit, _ = cols.spec_of(name)
-        if unit is None:
-            data[name] = _text(cells, apostrophes)
-        else:
-            values, bad = _numbers(cells, unit, table.decimal_comma)
-            for pos, message in bad:
-                error(pos, i, message, name)
-            data[name] = values
-    df = pd.DataFrame(data, index=pd.Index(lines, name="line"))
+        if units[i] is None:
+            text.append((len(kept), name, _text(cells, apostrophes)))
+        kept.append(name)
+
+    def parse(i: int) -> list:
+        return _numbers(table.columns[i - 1], units[i], table.decimal_comma,
+                        out=block[numeric.index(i)])[1]
+
+    # pyarrow's conversion lets go of the interpreter's lock: columns side by side
+    for i, bad in zip(numeric, columnar.map_columns(parse, numeric, rows=n)):
+        for pos, message in bad:
+            error(pos, i, message, names[i - 1])
+    index = pd.Index(lines, name="line")
+    df = pd.DataFrame(block.T, columns=[names[i - 1] for i in numeric], index=index, copy=False)
+    for position, name, values in text:
+        df.insert(position, name, values)
     if n == 0:
         df = df.iloc[0:0]
 
@@ -243,98 +272,12 @@ def _convert(table, apostrophes: bool = True) -> Catalog:
     _signs(df, col_of, error)
     _row_rules(df, col_of, error, warning)
 
+    bad_rows = findings.error_rows()
     keep = np.ones(n, dtype=bool)
-    keep[sorted(bad_rows)] = False
-    error_lines = [int(lines[p]) for p in sorted(bad_rows)]
-    problems.sort(key=lambda p: (p.line or 0, p.column or 0, p.severity))
-    return Catalog(df[keep].copy(), problems, path, "", n, encoding=table.encoding,
-                   delimiter=table.delimiter, error_lines=error_lines)
-
-
-def _text(cells, apostrophes: bool) -> np.ndarray:
-    """A text column as an object array; cells made inert by picker's CSV
-    output restored (see `_convert`)."""
-    column = np.array(cells, dtype=object)
-    if apostrophes:
-        for pos in np.flatnonzero(pd.Series(column, dtype=object).str.startswith("'").to_numpy(
-                dtype=bool, na_value=False)):
-            column[pos] = restore(column[pos])
-    return column
-
-
-def _numbers(cells, unit: str, decimal_comma: bool) -> tuple[np.ndarray, list]:
-    """Parse a column of cells to floats in `unit`: the plain numbers in one
-    vectorised pass, the rest (units, IEC codes, unknown markers) one by one
-    through parse_quantity. Unknown -> NaN."""
-    text = np.asarray(cells, dtype=object)
-    if decimal_comma:
-        text = np.asarray(pd.Series(text, dtype=object).str.replace(",", ".", regex=False),
-                          dtype=object)
-    values = np.full(len(text), np.nan)
-    filled = text != ""
-    try:
-        values[filled] = text[filled].astype(float)
-    except (ValueError, TypeError):  # some cells carry units or markers: coerce, then look closer
-        values[filled] = pd.to_numeric(pd.Series(text[filled]), errors="coerce").to_numpy(float)
-    bad = []
-    for pos in np.flatnonzero(filled & ~np.isfinite(values)):
-        cell = str(cells[pos])
-        if cell.strip().lower() in UNKNOWN_MARKERS:
-            values[pos] = np.nan
-            continue
-        try:
-            values[pos] = parse_quantity(cell, unit, decimal_comma=decimal_comma)
-        except QuantityError as exc:
-            values[pos] = np.nan
-            bad.append((int(pos), exc.message))
-    return values, bad
-
-
-def _normalise_text(df: pd.DataFrame, col_of: dict, error) -> None:
-    """part, kind, status, preferred: checked and written in canonical form."""
-    part = df["part"].to_numpy(dtype=object)
-    for pos in np.flatnonzero(part == ""):
-        error(int(pos), col_of["part"], "the part number is missing", "part")
-    raw_kind = df["kind"].to_numpy(dtype=object)
-    kind = pd.Series(raw_kind, dtype=object).str.lower().to_numpy(dtype=object)
-    for pos in np.flatnonzero(kind == ""):
-        error(int(pos), col_of["kind"], "the kind is missing; write pmos, nmos, npn or pnp", "kind")
-    known = np.isin(kind, cols.KINDS)
-    for pos in np.flatnonzero((kind != "") & ~known):
-        error(int(pos), col_of["kind"], f"unknown kind '{raw_kind[pos]}'; "
-              "expected pmos, nmos, npn or pnp", "kind")
-    df["kind"] = np.where(known, kind, "")
-
-    key = pd.Series(part, dtype=object).str.replace(r"\s+", "", regex=True).str.casefold()
-    repeated = key.duplicated(keep=False).to_numpy() & (part != "")
-    if repeated.any():
-        first_line: dict[str, int] = {}
-        for pos in np.flatnonzero(repeated):
-            k = key.iloc[pos]
-            if k in first_line:
-                error(int(pos), col_of["part"], f"duplicate part '{part[pos]}': already on line "
-                      f"{first_line[k]} (case and spaces are ignored)", "part")
-            else:
-                first_line[k] = int(df.index[pos])
-
-    if "status" in df:
-        raw = df["status"].to_numpy(dtype=object)
-        status = pd.Series(raw, dtype=object).str.lower().replace("", "active").to_numpy(object)
-        for pos in np.flatnonzero(~np.isin(status, cols.STATUSES)):
-            error(int(pos), col_of["status"], f"unknown status '{raw[pos]}'; "
-                  "expected active, nrnd or eol", "status")
-        df["status"] = status
-    else:
-        df["status"] = "active"
-    if "preferred" in df:
-        raw = df["preferred"].to_numpy(dtype=object)
-        pref = pd.Series(raw, dtype=object).str.lower().to_numpy(dtype=object)
-        for pos in np.flatnonzero(~np.isin(pref, list(YES | NO))):
-            error(int(pos), col_of["preferred"], f"preferred is '{raw[pos]}'; "
-                  "expected yes or no", "preferred")
-        df["preferred"] = np.isin(pref, list(YES))
-    else:
-        df["preferred"] = False
+    keep[bad_rows] = False
+    return Catalog(df if keep.all() else df[keep].copy(), findings.problems(), path, "", n,
+                   encoding=table.encoding, delimiter=table.delimiter,
+                   error_lines=lines[bad_rows].tolist())
 
 
 def _signs(df: pd.DataFrame, col_of: dict, error) -> None:
@@ -395,12 +338,16 @@ def _row_rules(df: pd.DataFrame, col_of: dict, error, warning) -> None:
         no_thermal = mosfet & ~np.isfinite(arr("rth_ja_C/W"))
     else:
         no_thermal = mosfet
-    for pos in np.flatnonzero(no_thermal):
-        warning(int(pos), col_of.get("rth_ja_C/W"), "no rth_ja_C/W: self-heating cannot be "
-                "checked for this MOSFET", "rth_ja_C/W")
-    part = df["part"].to_numpy(dtype=object)
-    for pos in np.flatnonzero((df["status"] == "eol").to_numpy()):
-        warning(int(pos), col_of.get("status"), f"'{part[pos]}' is end-of-life (eol)", "status")
+    warning(np.flatnonzero(no_thermal), col_of.get("rth_ja_C/W"), "no rth_ja_C/W: "
+            "self-heating cannot be checked for this MOSFET", "rth_ja_C/W")
+    eol = np.flatnonzero((df["status"] == "eol").to_numpy(dtype=bool))
+    if eol.size:  # one message per part, joined in Arrow
+        import pyarrow as pa
+        import pyarrow.compute as pc
+
+        part = _arrow(df["part"]).take(pa.array(eol)).cast(pa.string())
+        warning(eol, col_of.get("status"), pc.binary_join_element_wise(
+            "'", part, "' is end-of-life (eol)", ""), "status")
 
 
 def _falling(df, points, col_of, warning, what: str, verb: str, *, rising_is_bad: bool,

@@ -14,6 +14,7 @@ import io
 import os
 import re
 import stat
+from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -39,7 +40,7 @@ class TextTable:
     delimiter: str
     header: list[str]
     header_line: int
-    columns: list  # cells by column position: a list of str, or a numpy object array
+    columns: list  # cells by column position: a list of str, or ArrowCells
     lines: list[int]  # file line on which each data row starts
     problems: list[tuple[int, int, str]]  # (line, column, message) for ragged rows
 
@@ -51,7 +52,34 @@ class TextTable:
     def cells(self, position: int) -> list[str]:
         """The cells of column `position` (0-based), one per data row."""
         column = self.columns[position]
-        return column if isinstance(column, list) else column.tolist()
+        return column if isinstance(column, list) else list(column)
+
+
+class ArrowCells(Sequence):
+    """A column from the columnar reader: its Arrow array (`arrow`, blank
+    cells null) for the vectorised work, and a list of str (blank "") when
+    read as one, made on first use."""
+
+    def __init__(self, arrow) -> None:
+        self.arrow = arrow
+        self._list: list[str] | None = None
+
+    def _cells(self) -> list[str]:
+        if self._list is None:
+            self._list = [c if c is not None else "" for c in self.arrow.to_pylist()]
+        return self._list
+
+    def __len__(self) -> int:
+        return len(self.arrow)
+
+    def __getitem__(self, i):
+        return self._cells()[i]
+
+    def __iter__(self):
+        return iter(self._cells())
+
+    def __eq__(self, other) -> bool:
+        return list(self) == list(other)
 
 
 def memory_bound() -> int:
@@ -158,6 +186,12 @@ def read_table(path: str | os.PathLike, *, error: type[PickerError], what: str,
     differs from the header's are kept (padded or cut) but listed in
     `problems` with the line and the first column that does not fit; wholly
     blank lines are skipped. Cells are stripped of surrounding spaces.
+
+    A file over FAST_BYTES with no quote character and the header's field
+    count on every line is read by the columnar reader (pyarrow's, on all
+    cores; its cells are Arrow columns); any other file, or one that reader
+    leaves, by the general one (the csv module; lists of str). Both give the
+    same header, cells, lines and problems (tested).
     """
     path = str(path)
     if data is None:
@@ -166,18 +200,24 @@ def read_table(path: str | os.PathLike, *, error: type[PickerError], what: str,
         at = data.index(b"\x00")
         raise error("the file contains a NUL byte; it is not a text CSV file "
                     "(export it again as CSV)", file=path, line=data[:at].count(b"\n") + 1)
-    text, encoding = decode(data, path, error)
-    text = text.lstrip("\ufeff")  # a second byte-order mark: saved by two tools that add one
-    # the first line with text, lines ended as the csv module ends them (CR, LF)
-    first_line = next((m.group() for m in re.finditer(r"[^\r\n]+", text) if m.group().strip()),
-                      None)
+    if data.isascii():  # the common large file: no need to decode it as a whole
+        text, encoding, raw = None, "utf-8", data
+    else:
+        text, encoding = decode(data, path, error)
+        text = text.lstrip("\ufeff")  # a second byte-order mark: saved by two tools that add one
+        raw = data if encoding == "utf-8" else None
+    first_line = _first_line(raw if text is None else text)
     if first_line is None:
         raise error(f"the {what} file is empty; it needs a header line", file=path)
     delimiter = detect_delimiter(first_line, known)
     table = None
     if len(data) > FAST_BYTES and encoding in ("utf-8", "utf-8-sig", "cp1252"):
-        table = _read_plain(data, text, delimiter, path, what)
+        if raw is None:
+            raw = text.encode("utf-8")
+        table = _read_columnar(raw, delimiter, path, what)
     if table is None:
+        if text is None:
+            text = data.decode("utf-8")
         table = _read_general(text, delimiter, path, error, what)
     header, header_line, columns, row_lines, problems = table
     if len(row_lines) > MAX_ROWS:
@@ -186,73 +226,125 @@ def read_table(path: str | os.PathLike, *, error: type[PickerError], what: str,
     return TextTable(path, encoding, delimiter, header, header_line, columns, row_lines, problems)
 
 
-FAST_BYTES = 1 << 20  # files above 1 MiB try the vectorised reader first
+def _first_line(text: str | bytes) -> str | None:
+    """The first line with text (lines ended as the csv module ends them:
+    CR, LF), for the separator's detection."""
+    pattern = r"[^\r\n]+" if isinstance(text, str) else rb"[^\r\n]+"
+    for m in re.finditer(pattern, text):
+        line = m.group() if isinstance(text, str) else m.group().decode("utf-8")
+        if line.strip():
+            return line
+    return None
 
 
-def _read_plain(data: bytes, text: str, delimiter: str, path: str = "", what: str = "file"):
-    """The fast path for large, plain files: no quote character anywhere and
-    every non-blank line with the header's field count. Then lines can be found
-    with numpy and the cells split by pandas' C parser. None otherwise (the
-    general reader then handles quoting and reports ragged rows). A file of
-    more than MAX_ROWS rows is refused (TooLarge) before its cells are split."""
-    if b'"' in data or data.count(b"\r") != data.count(b"\r\n"):
+FAST_BYTES = 1 << 16  # files above 64 KiB try the columnar reader first
+
+
+def _read_columnar(raw: bytes, delimiter: str, path: str = "", what: str = "file"):
+    """The columnar reader, for large, plain files (UTF-8 bytes `raw`): no
+    quote character anywhere, CR only before LF, and every line with text
+    holding the header's field count. None for any other file (the general
+    reader then handles quoting and reports ragged rows). A file of more than
+    MAX_ROWS rows is refused (TooLarge) before its cells are split."""
+    if b'"' in raw or (b"\r" in raw and raw.count(b"\r") != raw.count(b"\r\n")):
         return None
-    import numpy as np
-    import pandas as pd
+    # The header: the first line with a cell that is not blank, as the general reader finds it.
+    start, line = 0, 1
+    while True:
+        end = raw.find(b"\n", start)
+        stop = len(raw) if end == -1 else end
+        fields = raw[start:stop].rstrip(b"\r").decode("utf-8").split(delimiter)
+        if any(f.strip() for f in fields):
+            break
+        if end == -1:
+            return None  # no header: the general reader says so
+        start, line = end + 1, line + 1
+    limit = csv.field_size_limit()
+    if end == -1 or end + 1 == len(raw) or max(map(len, fields)) > limit:
+        return None  # a header alone, or a cell the csv module refuses (the general reader says so)
+    body = end + 1
+    if raw.startswith(b"\xef\xbb\xbf", body):
+        return None  # pyarrow would drop a byte-order mark there; the general reader keeps it
+    newlines = raw.count(b"\n", body)
+    if newlines + 1 > MAX_ROWS and _lines_with_text(raw, body, delimiter) > MAX_ROWS:
+        raise TooLarge(f"the {what} has more than {MAX_ROWS:,} rows; picker reads up to that "
+                       "many (split the file)", file=path)
+    import pyarrow as pa
+    import pyarrow.csv as pacsv
 
-    codes = np.frombuffer(data, dtype=np.uint8)  # an ASCII-compatible encoding
+    from picker.catalog import columnar
+
+    names = [f"c{i}" for i in range(len(fields))]
+    try:
+        read = pacsv.read_csv(
+            pa.py_buffer(memoryview(raw)[body:]),
+            read_options=pacsv.ReadOptions(column_names=names, use_threads=True,
+                                           block_size=BLOCK_BYTES),
+            parse_options=pacsv.ParseOptions(delimiter=delimiter, quote_char=False,
+                                             double_quote=False, escape_char=False,
+                                             newlines_in_values=False, ignore_empty_lines=True),
+            convert_options=pacsv.ConvertOptions(column_types=dict.fromkeys(names, pa.string()),
+                                                 strings_can_be_null=True, check_utf8=False,
+                                                 null_values=[""]))
+    except (pa.ArrowInvalid, pa.ArrowException, ValueError):
+        return None  # a ragged row, most likely: the general reader reports it
+    columns = [read.column(i) for i in range(read.num_columns)]
+    del read
+    if any(columnar.longest(c) > limit for c in columns):
+        return None  # a cell the csv module refuses: the general reader says so
+    columns = [columnar.strip(c) for c in columns]  # (a column with no space-like byte as it is)
+    n = len(columns[0]) if columns else 0
+    if n and _blank_rows(columns):
+        return None  # a line of separators and spaces: a row here, skipped by the general reader
+    if newlines + (not raw.endswith(b"\n")) == n:
+        lines = list(range(line + 1, line + 1 + n))  # no empty line: one row a line
+    else:
+        lines = _nonempty_lines(raw, body, line + 1)
+        if len(lines) != n:
+            return None
+    return [f.strip() for f in fields], line, [ArrowCells(c) for c in columns], lines, []
+
+
+BLOCK_BYTES = 1 << 24  # the columnar reader's blocks (each a chunk of every column)
+
+def _blank_rows(columns) -> bool:
+    """Is any row blank in every column? (Only rows blank in the first are looked at further.)"""
+    import numpy as np
+
+    from picker.catalog import columnar
+
+    rows = np.flatnonzero(columnar.blank(columns[0]))
+    for column in columns[1:]:
+        if rows.size == 0:
+            return False
+        rows = rows[columnar.blank(column)[rows]]
+    return rows.size > 0
+
+
+def _nonempty_lines(raw: bytes, body: int, first: int) -> list[int]:
+    """The file lines (numbered from `first` at byte `body`) that are not empty."""
+    import numpy as np
+
+    codes = np.frombuffer(raw, dtype=np.uint8)[body:]
     ends = np.flatnonzero(codes == 10)
     if len(ends) == 0 or ends[-1] != len(codes) - 1:
         ends = np.append(ends, len(codes))
     starts = np.concatenate(([0], ends[:-1] + 1))
-    if (ends - starts).max() > csv.field_size_limit():
-        return None  # a line that may hold an over-long cell: the general reader decides
-    def per_line(positions: np.ndarray) -> np.ndarray:
-        return np.searchsorted(positions, ends) - np.searchsorted(positions, starts)
+    size = ends - starts
+    empty = (size == 0) | ((size == 1) & (codes[np.minimum(starts, len(codes) - 1)] == 13))
+    return (np.flatnonzero(~empty) + first).tolist()
 
-    separators = per_line(np.flatnonzero(codes == ord(delimiter)))
-    returns = (ends > starts) & (codes[np.maximum(ends - 1, 0)] == 13)
-    spaces = per_line(np.flatnonzero((codes == 32) | (codes == 9))) if delimiter != "\t" \
-        else per_line(np.flatnonzero(codes == 32))
-    length = (ends - starts) - returns
-    blank = length - separators - spaces <= 0  # nothing but separators and spaces
-    if np.any(blank & (length > 0)):
-        return None  # such a line: pandas reads it as a row, the general reader skips it
-    filled = np.flatnonzero(~blank)
-    if len(filled) - 1 > MAX_ROWS:  # counted before any cell is split
-        raise TooLarge(f"the {what} has more than {MAX_ROWS:,} rows; picker reads up to that "
-                       "many (split the file)", file=path)
-    if len(filled) < 2 or np.any(separators[filled] != separators[filled[0]]):
-        return None
-    try:
-        frame = pd.read_csv(io.StringIO(text), sep=delimiter, header=None, dtype=object,
-                            keep_default_na=False, na_values=[], skip_blank_lines=True,
-                            quoting=csv.QUOTE_NONE, engine="c")
-    except (pd.errors.ParserError, ValueError):  # e.g. a line of separators only, of another
-        return None  # width: pandas keeps it as a row; the general reader skips it
-    if len(frame) != len(filled):
-        return None
-    header = [str(h).strip() for h in frame.iloc[0]]
-    # Cells are stripped as str.strip() does: besides spaces and tabs, the ASCII
-    # controls Python counts as whitespace and any non-ASCII byte (a UTF-8 or
-    # Windows-1252 character that may be a no-break or other wide space) at a
-    # cell's edge make the reader strip every cell.
-    spacing = np.zeros(256, dtype=bool)
-    spacing[[32, 11, 12, 28, 29, 30, 31]] = True
-    spacing[128:] = True
-    spacing[9] = ord(delimiter) != 9
-    space = np.flatnonzero(spacing[codes])
-    edges = np.array([ord(delimiter), 10, 13])
-    before = codes[np.maximum(space - 1, 0)]
-    after = codes[np.minimum(space + 1, len(codes) - 1)]
-    padded = bool(np.isin(before, edges).any() or np.isin(after, edges).any()
-                  or (len(space) and (space[0] == 0 or space[-1] == len(codes) - 1)))
-    columns = []
-    for i in range(frame.shape[1]):
-        column = frame.iloc[1:, i]
-        columns.append((column.str.strip() if padded else column).to_numpy(dtype=object))
-    lines = (filled + 1).tolist()
-    return header, lines[0], columns, lines[1:], []
+
+def _lines_with_text(raw: bytes, body: int, delimiter: str) -> int:
+    """Lines from byte `body` on holding anything but separators, spaces and CR."""
+    import numpy as np
+
+    codes = np.frombuffer(raw, dtype=np.uint8)[body:]
+    content = np.ones(256, dtype=bool)
+    content[[ord(delimiter), 32, 9, 13, 10]] = False
+    ends = np.flatnonzero(codes == 10)
+    line_of = np.searchsorted(ends, np.flatnonzero(content[codes]))
+    return int(np.unique(line_of).size)
 
 
 def _read_general(text: str, delimiter: str, path: str, error, what: str):
