@@ -13,11 +13,7 @@ from picker.engine.checks import FAIL
 
 LINK_CHECKS = ("held_off", "turn_off", "drive_current", "latch_off", "pair")
 ON_STATE = ("gate_drive", "ohmic", "drop", "tj")
-CHECK_WORDS = {"gate_drive": "gate drive", "ohmic": "ohmic region", "drop": "drop", "tj": "Tj",
-               "off_current": "off current", "held_off": "held-off gate", "turn_off": "turn-off time",
-               "drive_current": "drive current", "saturation": "saturation", "vce_sat": "Vce(sat)",
-               "ic_rating": "Ic rating", "latch_off": "latch held off", "vds_rating": "Vds rating",
-               "vgs_rating": "Vgs rating", "id_rating": "Id rating", "vceo_rating": "Vceo rating"}
+CHECK_WORDS: dict = {}  # the checks are named as the interface names them (drop, latch_off ...)
 
 
 def _v(x, unit: str, digits: int = 3) -> str:
@@ -103,7 +99,9 @@ def pair_text(row, result, req) -> str:
     link = result.link
     failed = _failed(row, result)
     if not failed:
-        open_ = " and ".join(CHECK_WORDS.get(c, c) for c in _failed(row, result, "other_unknown"))
+        undecided = _failed(row, result, "other_unknown")
+        open_ = ", ".join(CHECK_WORDS.get(c, c) for c in undecided[:3]) + (
+            f" and {len(undecided) - 3} more" if len(undecided) > 3 else "")
         other = refs(link.switch if result.side == "partner" else link.partner)
         return (f"pair: with it {other}'s {open_} cannot be decided" if open_
                 else f"pair: {result.partner_part} is not feasible with it")

@@ -297,9 +297,10 @@ def trial(parts: PartData, role: Role, req: Requirements, trial_req: Requirement
     other_ref = other.chosen_row if other.chosen_row is not None else int(
         np.flatnonzero(other.frame["part"].to_numpy() == table.partner_part)[0])
     P, S = _kind_rows(catalog_df, link.partner), _kind_rows(catalog_df, link.switch)
-    model = PairModel(link, trial_req, P, S)
     n = len(pos)
     p, s = ((np.full(n, other_ref), pos) if table.side == "switch" else (pos, np.full(n, other_ref)))
+    # one model row per trial row: the trial's ambient may differ row by row
+    model = PairModel(link, trial_req, P.take(p), S.take(s))
     def column(frame, name, rows):
         return frame[name].to_numpy(dtype=float)[rows] if name in frame else np.full(n, np.nan)
     # each row's own resistors, and the other role's as they were chosen with that row
@@ -311,7 +312,7 @@ def trial(parts: PartData, role: Role, req: Requirements, trial_req: Requirement
         fixed = {"gate_pullup_ohm": column(table.frame, "other_gate_pullup_ohm", pos),
                  "base_resistor_ohm": column(table.frame, "base_resistor_ohm", pos),
                  "base_pulldown_ohm": column(table.frame, "base_pulldown_ohm", pos)}
-    out = model.evaluate(p, s, full=True, fixed=fixed)
+    out = model.evaluate(np.arange(n), np.arange(n), full=True, fixed=fixed)
     return out[table.side]
 
 

@@ -25,7 +25,6 @@ from picker.engine.parts import PartData, values
 from picker.engine.pass_switch import PASS_SWITCH_CHECKS, pass_switch_columns
 from picker.engine.saturated_switch import SWITCH_CHECKS, saturated_switch_columns
 from picker.models import bipolar, eseries, gate, leakage, mosfet
-from picker.models._defaults import or_default
 
 AUTO = "auto"
 LATCH_BASE_LIMIT_V = 0.15  # a base at or below this stays off (models/README.md §10)
@@ -93,7 +92,7 @@ class PairModel:
         sw, pr = link.switch, link.partner
         hot = req.ambient.max_C
         # switch side
-        k_vt = or_default(np.abs(values(switch, "vgs_th_tc_mV/C")) / 1000.0, mosfet.K_VT_V_PER_C)
+        k_vt = mosfet.k_vt_of(values(switch, "vgs_th_tc_mV/C"), values(switch, "vgs_th_max_V"))  # §2
         self.vt_min_hot_V = gate.threshold_min_at(values(switch, "vgs_th_min_V"), hot, k_vt)
         drives_V, qg_nC = switch.points("qg_nC")
         self.qg_C = gate.gate_charge_at(drives_V, qg_nC * 1e-9, req.supply.max_V)
@@ -240,7 +239,7 @@ class PairModel:
                                           forced=link.drives_gate)
         else:
             rb_ohm = np.full(n, float(rb))
-        no_rb = np.isnan(rb_ohm)
+        no_rb = np.isnan(rb_ohm) & np.isfinite(ic_A)  # (an unknown current leaves it unknown)
         # no base resistor fits: the transistor is taken as off (saturation fails)
         ends = self._ends(np.where(no_rb, np.inf, rb_ohm),
                           None if rpd_ohm is None else np.nan_to_num(rpd_ohm, nan=np.inf), rb_tol, rpd_tol)

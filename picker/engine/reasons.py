@@ -160,6 +160,21 @@ _NEEDS = {
 
 
 def _unknown_text(check: str, row: pd.Series, role, req) -> str:
+    ic = row.get("collector_current_A")
+    if check in ("saturation", "vce_sat", "ic_rating") and ic is not None and ic != ic:
+        return (f"{check} unknown: no pull-up value fits the switch, so the collector current "
+                "is unknown (models/README.md §10)")
+    vgs = row.get("vgs_V")
+    if role.is_pass_switch and vgs is not None and vgs != vgs:  # a linked switch (§10)
+        if check == "gate_drive":
+            return ("gate_drive unknown: the driver's Vce(sat) is not known or not guaranteed "
+                    "here, so neither is the gate drive it leaves (models/README.md §10)")
+        if check in ("ohmic", "drop", "tj"):
+            return f"{check} not evaluated: the gate drive is unknown"
+    return _unknown_reason(check, row, role, req)
+
+
+def _unknown_reason(check: str, row: pd.Series, role, req) -> str:
     if check in ("ohmic", "drop", "tj") and int(row.get("check_gate_drive", PASS)) == FAIL:
         return f"{check} not evaluated: the gate is not driven on"
     if check in ("ohmic", "drop", "tj"):

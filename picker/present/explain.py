@@ -86,9 +86,6 @@ def _lowest_supply(table: pd.DataFrame, r: RoleResult, req) -> pd.DataFrame | No
     """headroom.lowest_supply for the rows shown (None without the catalogue rows)."""
     if r.catalog_df is None or table.empty:
         return None
-    role = r.role
-    if req.in_link(role) or "auto" in (role.base_resistor_ohm, role.base_pulldown_ohm):
-        return None  # the supply search runs one role alone, with its resistors as given
     from picker.engine import headroom
 
     return headroom.lowest_supply(r.catalog_df.loc[table.index], r.role, req)
